@@ -1,0 +1,147 @@
+"""One analysis of a study: set point, Monte Carlo, conformity, Sobol, ranking.
+
+This is the Python API behind ``simunc run``::
+
+    import simunc
+    study = simunc.load_study("studies/demo.toml")
+    result = simunc.run(study, trials=100_000, seed=3)
+    result.statistics        # pandas DataFrame
+    result.sobol["reynolds_ratio"]
+    result.ranking
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+import pandas as pd
+
+from .inputs import UncertainInput, build_inputs
+from .model import OUTPUTS, SimilitudeModel
+from .propagate import Problem, monte_carlo, summarize
+from .sensitivity import sobol_indices
+from .setpoint import SetPoint, build_model, solve
+from .study import Study
+
+
+@dataclass
+class Result:
+    """Everything one run produces (SI floats, pandas tables)."""
+
+    study: Study
+    setpoint: SetPoint
+    inputs: list[UncertainInput]
+    trials: int
+    seed: int
+    statistics: pd.DataFrame
+    conformity: dict[str, float]
+    sobol: dict[str, pd.DataFrame]
+    ranking: pd.DataFrame
+    input_values: np.ndarray
+    output_values: dict[str, np.ndarray]
+
+    @property
+    def coverage_probability(self) -> float:
+        return self.study.run.coverage_probability
+
+    def samples(self) -> pd.DataFrame:
+        """The trials: input deviations (SI) and every output, one row per trial."""
+        cols = {i.name: self.input_values[:, j] for j, i in enumerate(self.inputs)}
+        cols.update({k: np.asarray(v) for k, v in self.output_values.items()})
+        return pd.DataFrame(cols)
+
+
+def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
+                       inputs: list[UncertainInput]) -> Problem:
+    """The similitude model around a set point as a :class:`Problem` of its inputs.
+
+    Inputs acting on the same target add up.
+    """
+    nominal = dict(setpoint.nominal)
+
+    def func(x):
+        deviations: dict[str, np.ndarray] = {}
+        for inp in inputs:
+            v = x[inp.name]
+            deviations[inp.target] = deviations[inp.target] + v if inp.target in deviations else v
+        return model({**nominal, **deviations})
+
+    return Problem([i.name for i in inputs], [i.distribution for i in inputs], func)
+
+
+def conformity(y: dict[str, np.ndarray], study: Study) -> dict[str, float]:
+    """Probability that each matched group, and all together, lie inside their bands."""
+    inside_all = np.ones(len(next(iter(y.values()))), dtype=bool)
+    out = {}
+    for band in study.bands:
+        inside = np.abs(y[band.output] - band.centre) <= band.tolerance
+        out[band.group] = float(np.mean(inside))
+        inside_all &= inside
+    out["all"] = float(np.mean(inside_all))
+    return out
+
+
+def _statistics(y, setpoint: SetPoint, p: float) -> pd.DataFrame:
+    rows = []
+    for key, (unit, label) in OUTPUTS.items():
+        s = summarize(y[key], p)
+        rows.append({"output": key, "unit": unit, "nominal": setpoint.outputs[key], **s,
+                     "label": label})
+    return pd.DataFrame(rows).set_index("output")
+
+
+def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
+             inputs: list[UncertainInput]) -> pd.DataFrame:
+    """Rank inputs by the share of a tolerance band their variance takes.
+
+    For each matched group, ``band_share = 2 sqrt(ST var(y)) / tolerance``:
+    the expanded (k = 2) uncertainty the input brings, as a fraction of the
+    band half-width.  Inputs are ranked by their largest share.
+    """
+    rows = []
+    for inp in inputs:
+        row = {"input": inp.name, "perturbs": inp.target}
+        shares = []
+        for band in study.bands:
+            st = float(max(sobol[band.output].loc[inp.name, "ST"], 0.0))
+            u = float(stats.loc[band.output, "standard_uncertainty"])
+            share = 2.0 * np.sqrt(st) * u / band.tolerance
+            row[f"ST_{band.output}"] = st
+            row[f"band_share_{band.group}"] = share
+            shares.append(share)
+        row["largest_band_share"] = max(shares) if shares else 0.0
+        rows.append(row)
+    if not rows:
+        return pd.DataFrame(columns=["input", "perturbs", "largest_band_share", "rank"]).set_index("input")
+    table = pd.DataFrame(rows).sort_values("largest_band_share", ascending=False)
+    table["rank"] = np.arange(1, len(table) + 1)
+    return table.set_index("input")
+
+
+def run(study: Study, trials: int | None = None, seed: int | None = None) -> Result:
+    """Solve the set point and propagate the study's uncertain inputs.
+
+    Parameters
+    ----------
+    study : Study
+        From :func:`simunc.load_study`.
+    trials, seed : int, optional
+        Override ``run.trials`` and ``run.seed``.
+    """
+    settings = replace(study.run, **{k: v for k, v in (("trials", trials), ("seed", seed))
+                                     if v is not None})
+    study = replace(study, run=settings)
+    model = build_model(study)
+    setpoint = solve(study, model)
+    inputs = build_inputs(study.inputs, setpoint)
+    problem = similitude_problem(model, setpoint, inputs)
+    x, y = monte_carlo(problem, settings.trials, settings.seed)
+    stats = _statistics(y, setpoint, settings.coverage_probability)
+    conf = conformity(y, study)
+    outputs = [b.output for b in study.bands]
+    sobol = sobol_indices(problem, outputs, settings.sobol_base_samples, settings.seed) if inputs else {
+        o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
+    ranking = _ranking(sobol, stats, study, inputs)
+    return Result(study, setpoint, inputs, settings.trials, settings.seed, stats, conf, sobol,
+                  ranking, x, y)

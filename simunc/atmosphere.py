@@ -1,0 +1,124 @@
+"""U.S. Standard Atmosphere 1976 (identical to ISO 2533 below 32 km), vectorized.
+
+Layers from -5 km to 86 km geometric altitude (84.852 km geopotential), with
+an optional temperature offset ("ISA + dT" days: the pressure at a given
+altitude stays the standard one, the temperature is shifted).
+
+References
+----------
+.. [1] NOAA, NASA, USAF, *U.S. Standard Atmosphere, 1976*, NOAA-S/T 76-1562,
+   Washington DC, 1976, Part 1 (equations 18, 33a, 33b and Table 4).
+.. [2] ISO 2533:1975, *Standard Atmosphere*.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .gas import AIR
+
+#: Standard acceleration of gravity g0 [m s^-2] ([1], Table 2).
+G0 = 9.80665
+#: Effective Earth radius r0 for geopotential altitude [m] ([1], eq. 18).
+EARTH_RADIUS = 6_356_766.0
+#: Sea-level standard pressure [Pa] and temperature [K].
+P_SL = 101_325.0
+T_SL = 288.15
+
+#: Layer base geopotential altitudes [m] and lapse rates [K m^-1] ([1], Table 4).
+_H_BASE = np.array([0.0, 11_000.0, 20_000.0, 32_000.0, 47_000.0, 51_000.0, 71_000.0, 84_852.0])
+_LAPSE = np.array([-6.5e-3, 0.0, 1.0e-3, 2.8e-3, 0.0, -2.8e-3, -2.0e-3])
+
+
+def _base_values() -> tuple[np.ndarray, np.ndarray]:
+    t = [T_SL]
+    p = [P_SL]
+    k = G0 / AIR.gas_constant
+    for i, lapse in enumerate(_LAPSE):
+        dh = _H_BASE[i + 1] - _H_BASE[i]
+        t_top = t[-1] + lapse * dh
+        if lapse == 0.0:
+            p_top = p[-1] * np.exp(-k * dh / t[-1])
+        else:
+            p_top = p[-1] * (t_top / t[-1]) ** (-k / lapse)
+        t.append(t_top)
+        p.append(p_top)
+    return np.array(t[:-1]), np.array(p[:-1])
+
+
+_T_BASE, _P_BASE = _base_values()
+
+#: Validity range in geometric altitude [m].
+ALTITUDE_RANGE = (-5_000.0, 86_000.0)
+
+
+def geopotential_altitude(z):
+    """Geopotential altitude from geometric altitude.
+
+    ``H = r0 z / (r0 + z)``
+
+    Parameters
+    ----------
+    z : array_like
+        Geometric altitude [m].
+
+    Returns
+    -------
+    ndarray
+        Geopotential altitude [m'] ([1], eq. 18).
+
+    Examples
+    --------
+    U.S. Standard Atmosphere 1976, Table I: 11 000 m geometric is 10 981 m'.
+
+    >>> round(float(geopotential_altitude(11_000.0)))
+    10981
+    """
+    z = np.asarray(z, dtype=float)
+    return EARTH_RADIUS * z / (EARTH_RADIUS + z)
+
+
+def standard_state(z, temperature_offset=0.0):
+    """Static temperature and pressure of the standard atmosphere.
+
+    In a layer with base ``(H_b, T_b, p_b)`` and lapse rate ``L``:
+    ``T = T_b + L (H - H_b)``; ``p = p_b (T / T_b)^(-g0 / (R L))`` for
+    ``L != 0`` and ``p = p_b exp(-g0 (H - H_b) / (R T_b))`` for ``L = 0``
+    ([1], eqs. 33a, 33b).  The temperature offset ``dT`` is added to ``T``
+    afterwards; the pressure stays the standard one.
+
+    Parameters
+    ----------
+    z : array_like
+        Geometric altitude [m], -5 000 to 86 000.
+    temperature_offset : array_like
+        Offset from the standard temperature [K].
+
+    Returns
+    -------
+    temperature : ndarray
+        Static temperature [K].
+    pressure : ndarray
+        Static pressure [Pa].
+
+    Examples
+    --------
+    Tropopause, 11 000 m' geopotential ([1], Table 4): 216.65 K, 22 632 Pa.
+
+    >>> t, p = standard_state(11_019.07)
+    >>> round(float(t), 2), round(float(p))
+    (216.65, 22632)
+    """
+    z = np.asarray(z, dtype=float)
+    h = geopotential_altitude(z)
+    i = np.clip(np.searchsorted(_H_BASE, h, side="right") - 1, 0, len(_LAPSE) - 1)
+    lapse = _LAPSE[i]
+    t_b = _T_BASE[i]
+    dh = h - _H_BASE[i]
+    t = t_b + lapse * dh
+    k = G0 / AIR.gas_constant
+    safe_lapse = np.where(lapse == 0.0, 1.0, lapse)
+    p_grad = _P_BASE[i] * (t / t_b) ** (-k / safe_lapse)
+    p_iso = _P_BASE[i] * np.exp(-k * dh / t_b)
+    p = np.where(lapse == 0.0, p_iso, p_grad)
+    return t + np.asarray(temperature_offset, dtype=float), p

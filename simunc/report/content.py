@@ -1,0 +1,173 @@
+"""Report content as a list of blocks, shared by the Markdown and HTML writers."""
+
+from __future__ import annotations
+
+import platform
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from .. import __version__
+from ..model import OUTPUTS, TARGETS
+from ..units import DIMENSIONS
+
+
+@dataclass(frozen=True)
+class Block:
+    """``kind`` is one of heading, paragraph, table, figure, bullets."""
+
+    kind: str
+    content: object
+    level: int = 2
+    caption: str = ""
+
+
+def fmt(v) -> str:
+    if isinstance(v, (bool, np.bool_)):
+        return "yes" if v else "no"
+    if isinstance(v, (int, np.integer)):
+        return str(v)
+    if isinstance(v, (float, np.floating)):
+        if not np.isfinite(v):
+            return "n/a"
+        if abs(v) < 1e-13:
+            return "0"
+        return f"{v:.6g}"
+    return str(v)
+
+
+def _table(df: pd.DataFrame) -> pd.DataFrame:
+    return df.map(fmt)
+
+
+SAFETY = [
+    "Pressurised facilities store a great deal of energy in the gas: run only inside the "
+    "facility's rated pressure envelope, under its pressure-equipment code and its own "
+    "operating and safety rules.",
+    "Model, balance and support loads grow with the dynamic pressure: at this set point "
+    "q = {q} kPa. Rating the model and its support for those loads, with the margins the "
+    "facility demands, is the job of the responsible licensed engineers.",
+    "Large volumes of pressurised or cryogenic gas (nitrogen in particular) can displace oxygen "
+    "in enclosed spaces: follow the facility's oxygen-monitoring and entry rules.",
+    "simunc gives planning estimates, not certification. Where this report and the facility's "
+    "safety rules, codes or licensed engineering practice differ, those prevail.",
+]
+
+
+def build(result) -> list[Block]:
+    st, sp = result.study, result.setpoint
+    fs, fac = st.full_scale, st.facility
+    o = sp.outputs
+    b: list[Block] = [Block("heading", st.title, 1)]
+    if st.description:
+        b.append(Block("paragraph", st.description))
+
+    verdict = "achievable and matched" if sp.feasible else "NOT achievable as stated"
+    conf = result.conformity
+    b += [Block("heading", "Summary"), Block("bullets", [
+        f"Facility: {fac.name}; working gas {fac.gas.name}.",
+        f"Set point ({sp.solve_for.replace('_', ' ')} solved): {verdict}.",
+        f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation temperature "
+        f"{o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}, model reference length "
+        f"{o['model_length'] * 1e3:.2f} mm.",
+        f"Probability that every matched group lies inside its tolerance band: "
+        f"{100 * conf['all']:.2f} % ({result.trials} trials).",
+    ] + ([f"Input to control more tightly first: {result.ranking.index[0]} "
+          f"({result.ranking.iloc[0]['perturbs']})."] if len(result.ranking) else []))]
+
+    b.append(Block("heading", "Full-scale condition"))
+    rows = [("static pressure", fs.static_pressure, "Pa"),
+            ("static temperature", fs.static_temperature, "K"),
+            ("Mach number", o["mach_full_scale"], "1"),
+            ("speed", o["full_scale_speed"], "m/s"),
+            ("reference length", fs.reference_length, "m"),
+            ("Reynolds number", o["reynolds_full_scale"], "1")]
+    if fs.altitude is not None:
+        rows[:0] = [("geometric altitude (standard atmosphere)", fs.altitude, "m"),
+                    ("temperature offset", fs.temperature_offset, "K")]
+    b.append(Block("table", _table(pd.DataFrame(rows, columns=["quantity", "value", "unit"]))))
+
+    b.append(Block("heading", "Matched set point"))
+    rows = [("stagnation pressure p0", o["stagnation_pressure"], "Pa"),
+            ("stagnation temperature T0", o["stagnation_temperature"], "K"),
+            ("Mach number", o["mach_model"], "1"),
+            ("model reference length", o["model_length"], "m"),
+            ("model scale", o["model_length"] / fs.reference_length, "1"),
+            ("static pressure p", o["static_pressure"], "Pa"),
+            ("static temperature T", o["static_temperature"], "K"),
+            ("speed U", o["speed"], "m/s"),
+            ("density rho", o["density"], "kg/m^3"),
+            ("viscosity mu", o["viscosity"], "Pa s"),
+            ("dynamic pressure q", o["dynamic_pressure"], "Pa"),
+            ("Reynolds number", o["reynolds_model"], "1"),
+            ("Re_model / Re_full", o["reynolds_ratio"], "1"),
+            ("Ma_model - Ma_full", o["mach_difference"], "1")]
+    b.append(Block("table", _table(pd.DataFrame(rows, columns=["quantity", "value", "unit"]))))
+    if sp.limits:
+        lim = pd.DataFrame([(x.quantity, x.side, x.bound, x.value, x.unit, "ok" if x.ok else "VIOLATED")
+                            for x in sp.limits],
+                           columns=["quantity", "limit", "bound", "set point", "unit", "status"])
+        b.append(Block("paragraph", "Facility limits:"))
+        b.append(Block("table", _table(lim)))
+    if sp.messages:
+        b.append(Block("bullets", list(sp.messages)))
+
+    b.append(Block("heading", "Uncertain inputs"))
+    if result.inputs:
+        rows = [(i.name, i.target, i.kind, f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"
+                 + (f" (k = {i.spec.coverage_factor:g})" if i.spec.size_kind == "expanded_uncertainty" else ""),
+                 i.standard_uncertainty, DIMENSIONS[TARGETS[i.target].dimension][1] or "1")
+                for i in result.inputs]
+        b.append(Block("table", _table(pd.DataFrame(
+            rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"]))))
+        b.append(Block("paragraph", "Measurement model: true value = set point - indication error "
+                       "+ control deviation; a size in % is a fraction of the reading at the set point."))
+    else:
+        b.append(Block("paragraph", "The study has no uncertain inputs."))
+
+    p = 100 * result.coverage_probability
+    b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))
+    s = result.statistics
+    tab = pd.DataFrame({"quantity": [OUTPUTS[k][1] for k in s.index], "unit": s["unit"],
+                        "nominal": s["nominal"], "mean": s["mean"], "u": s["standard_uncertainty"],
+                        f"{p:g} % low": s["low"], f"{p:g} % high": s["high"]})
+    b.append(Block("table", _table(tab.reset_index(drop=True))))
+    b.append(Block("paragraph", f"u is the standard uncertainty; the interval is the "
+                   f"probabilistically symmetric {p:g} % coverage interval from {result.trials} "
+                   f"trials."))
+    rows = [(band.group, band.output, f"±{band.tolerance:.6g} about {band.centre:g}",
+             fmt(100 * conf[band.group]) + " %") for band in st.bands]
+    rows.append(("all matched groups", "", "", fmt(100 * conf["all"]) + " %"))
+    b.append(Block("paragraph", "Conformity probability (share of trials inside the band):"))
+    b.append(Block("table", pd.DataFrame(rows, columns=["group", "output", "band", "probability"])))
+    b.append(Block("figure", "reynolds_ratio_histogram.png",
+                   caption="Achieved Reynolds-number ratio: trials, tolerance band, coverage interval."))
+
+    if result.inputs:
+        b.append(Block("heading", "Sensitivity (Sobol indices)"))
+        b.append(Block("paragraph", f"First-order S1 and total ST indices (SALib, "
+                       f"{st.run.sobol_base_samples} base samples, 95 % bootstrap half-widths)."))
+        for out, t in result.sobol.items():
+            b.append(Block("paragraph", f"**{out}**"))
+            b.append(Block("table", _table(t.reset_index())))
+        b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups."))
+        b.append(Block("heading", "Which input to control more tightly"))
+        b.append(Block("paragraph", "band share = 2 sqrt(ST var(y)) / tolerance: the expanded (k = 2) "
+                       "uncertainty an input brings to a matched group, as a fraction of that group's "
+                       "tolerance half-width. Ranked by the largest share."))
+        b.append(Block("table", _table(result.ranking.reset_index())))
+
+    b.append(Block("heading", "Safety"))
+    b.append(Block("bullets", [SAFETY[0], SAFETY[1].format(q=f"{o['dynamic_pressure'] / 1e3:.1f}"),
+                               SAFETY[2], SAFETY[3]]))
+
+    b.append(Block("heading", "Reproducibility"))
+    b.append(Block("table", pd.DataFrame([
+        ("simunc version", __version__), ("study file", st.path), ("study SHA-256", st.sha256),
+        ("seed", str(result.seed)), ("trials", str(result.trials)),
+        ("Sobol base samples", str(st.run.sobol_base_samples)),
+        ("random generator", "numpy PCG64"),
+        ("Python / numpy", f"{platform.python_version()} / {np.__version__}"),
+    ], columns=["item", "value"])))
+    return b

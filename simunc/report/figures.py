@@ -1,0 +1,70 @@
+"""Figures of a run, rendered in memory to PNG bytes (matplotlib, Agg backend)."""
+
+from __future__ import annotations
+
+import io
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+
+
+def _png(fig) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=110, bbox_inches="tight")
+    plt.close(fig)
+    return buf.getvalue()
+
+
+def reynolds_histogram(result) -> bytes:
+    """Histogram of the Reynolds-number ratio with its band and coverage interval."""
+    y = np.asarray(result.output_values["reynolds_ratio"])
+    row = result.statistics.loc["reynolds_ratio"]
+    band = result.study.band("reynolds")
+    fig, ax = plt.subplots(figsize=(7.0, 3.8))
+    ax.hist(y, bins=120, density=True, color="#4a78a8", alpha=0.85, label="Monte Carlo trials")
+    if band is not None:
+        ax.axvspan(1.0 - band.tolerance, 1.0 + band.tolerance, color="#6ab04c", alpha=0.15,
+                   label=f"tolerance band ±{band.tolerance:.3g}")
+    p = 100 * result.coverage_probability
+    for x in (row["low"], row["high"]):
+        ax.axvline(x, color="#c0392b", ls="--", lw=1.2)
+    ax.plot([], [], color="#c0392b", ls="--", label=f"{p:g} % coverage interval")
+    ax.axvline(1.0, color="black", lw=0.8, label="full-scale match")
+    ax.set_xlabel("Re_model / Re_full_scale")
+    ax.set_ylabel("probability density")
+    ax.legend(fontsize=8, loc="upper right")
+    ax.set_title("Achieved Reynolds-number ratio")
+    return _png(fig)
+
+
+def sobol_bars(result) -> bytes:
+    """Grouped bars of first-order and total Sobol indices per matched output."""
+    tables = result.sobol
+    n = max(len(tables), 1)
+    fig, axes = plt.subplots(1, n, figsize=(3.2 + 3.6 * n, 0.45 * max(len(result.inputs), 3) + 1.6),
+                             squeeze=False, sharey=True)
+    for i, (ax, (out, t)) in enumerate(zip(axes[0], tables.items())):
+        ypos = np.arange(len(t))
+        ax.barh(ypos - 0.2, t["S1"].clip(lower=0), 0.4, xerr=t["S1_conf"], label="first order S1",
+                color="#4a78a8")
+        ax.barh(ypos + 0.2, t["ST"].clip(lower=0), 0.4, xerr=t["ST_conf"], label="total ST",
+                color="#e1a33b")
+        if i == 0:
+            ax.set_yticks(ypos, list(t.index), fontsize=8)
+            ax.invert_yaxis()
+        ax.set_xlim(0, 1.05)
+        ax.set_xlabel("Sobol index")
+        ax.set_title(out)
+    axes[0][-1].legend(fontsize=8, loc="best")
+    return _png(fig)
+
+
+def all_figures(result) -> dict[str, bytes]:
+    """File name -> PNG bytes."""
+    figs = {"reynolds_ratio_histogram.png": reynolds_histogram(result)}
+    if result.inputs:
+        figs["sobol_indices.png"] = sobol_bars(result)
+    return figs

@@ -1,0 +1,83 @@
+"""The ``results.json`` document (schema documented in the README)."""
+
+from __future__ import annotations
+
+import json
+import math
+
+from .. import __version__
+from ..model import NOMINAL_KEYS, OUTPUTS, TARGETS
+from ..units import DIMENSIONS
+
+SCHEMA_VERSION = 1
+
+
+def _clean(v):
+    if isinstance(v, float):
+        return v if math.isfinite(v) else None
+    if isinstance(v, dict):
+        return {k: _clean(x) for k, x in v.items()}
+    if isinstance(v, (list, tuple)):
+        return [_clean(x) for x in v]
+    if hasattr(v, "item"):
+        return _clean(v.item())
+    return v
+
+
+def results_dict(result) -> dict:
+    """All figures of a run under stable keys, SI units."""
+    st, sp = result.study, result.setpoint
+    outputs = {}
+    for key, row in result.statistics.iterrows():
+        outputs[key] = {
+            "unit": row["unit"], "label": row["label"], "nominal": row["nominal"], "mean": row["mean"],
+            "standard_uncertainty": row["standard_uncertainty"],
+            "coverage_interval": [row["low"], row["high"]],
+            "coverage_probability": row["coverage_probability"],
+        }
+    doc = {
+        "schema_version": SCHEMA_VERSION,
+        "simunc_version": __version__,
+        "study": {"title": st.title, "path": st.path, "sha256": st.sha256},
+        "run": {"trials": result.trials, "seed": result.seed,
+                "coverage_probability": result.coverage_probability,
+                "sobol_base_samples": st.run.sobol_base_samples, "sampling": "pseudo-random (PCG64)"},
+        "setpoint": {
+            "solve_for": sp.solve_for,
+            "required_value": sp.required,
+            "feasible": sp.feasible,
+            "reynolds_shortfall": sp.reynolds_shortfall,
+            "mach_shortfall": sp.mach_shortfall,
+            "nominal": {k: sp.nominal[k] for k in NOMINAL_KEYS},
+            "outputs": dict(sp.outputs),
+            "limits": [{"quantity": lim.quantity, "side": lim.side, "bound": lim.bound,
+                        "value": lim.value, "unit": lim.unit, "ok": lim.ok} for lim in sp.limits],
+            "messages": list(sp.messages),
+        },
+        "inputs": [{
+            "name": i.name, "perturbs": i.target, "distribution": i.kind,
+            "specified_as": i.spec.size_kind, "written": i.spec.text,
+            "coverage_factor": i.spec.coverage_factor if i.spec.size_kind == "expanded_uncertainty" else None,
+            "standard_uncertainty": i.standard_uncertainty,
+            "unit": DIMENSIONS[TARGETS[i.target].dimension][1] or "1",
+        } for i in result.inputs],
+        "outputs": outputs,
+        "conformity": {
+            "probability": dict(result.conformity),
+            "bands": {b.group: {"output": b.output, "centre": b.centre, "tolerance": b.tolerance,
+                                "written": b.text} for b in st.bands},
+        },
+        "sensitivity": {
+            "method": "Sobol first-order (S1) and total (ST) indices, SALib, bootstrap 95 % "
+                      "confidence half-widths (*_conf)",
+            "indices": {out: {name: dict(row) for name, row in table.iterrows()}
+                        for out, table in result.sobol.items()},
+        },
+        "ranking": [{"input": name, **row} for name, row in result.ranking.iterrows()],
+        "output_units": {k: u for k, (u, _) in OUTPUTS.items()},
+    }
+    return _clean(doc)
+
+
+def results_json(result) -> str:
+    return json.dumps(results_dict(result), indent=2, allow_nan=False)

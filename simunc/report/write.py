@@ -1,0 +1,64 @@
+"""Render everything in memory, then write the report folder in one move."""
+
+from __future__ import annotations
+
+import io
+import os
+import shutil
+import tempfile
+from pathlib import Path
+
+from . import content, figures, render
+from .results_json import results_json
+
+SAMPLE_FORMATS = ("csv", "parquet")
+
+
+def render_all(result, samples: str | None = None) -> dict[str, bytes]:
+    """File name -> bytes of every file of the report."""
+    figs = figures.all_figures(result)
+    blocks = content.build(result)
+    files = {
+        "report.md": render.markdown(blocks).encode("utf-8"),
+        "report.html": render.html_page(blocks, figs).encode("utf-8"),
+        "results.json": results_json(result).encode("utf-8"),
+        **figs,
+    }
+    if samples is not None:
+        frame = result.samples()
+        buf = io.BytesIO()
+        if samples == "csv":
+            frame.to_csv(buf, index=False)
+        elif samples == "parquet":
+            frame.to_parquet(buf, index=False)
+        else:
+            raise ValueError(f"samples format {samples!r}; expected one of {SAMPLE_FORMATS}")
+        files[f"samples.{samples}"] = buf.getvalue()
+    return files
+
+
+def write_report(result, out_dir: str | os.PathLike, samples: str | None = None) -> list[Path]:
+    """Write the report files into ``out_dir`` (created if needed).
+
+    Files are written to a temporary folder beside ``out_dir`` and then moved
+    in, so an error leaves no half-written report.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    files = render_all(result, samples)
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(prefix=".simunc-", dir=out))
+    try:
+        for name, data in files.items():
+            (tmp / name).write_bytes(data)
+        written = []
+        for name in files:
+            os.replace(tmp / name, out / name)
+            written.append(out / name)
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
+    return written

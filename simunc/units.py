@@ -1,0 +1,126 @@
+"""Units at the boundary: one pint registry, parsing of study strings to SI floats.
+
+Every dimensional value in a study is a string such as ``"7500 m"``,
+``"12 degC"`` or ``"0.05 %"``.  It is parsed here, once, when the study
+loads; everything past this module works in SI floats.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import pint
+
+from .errors import StudyError
+
+ureg = pint.UnitRegistry()
+
+#: Study dimension names -> (pint dimensionality, SI unit, example for messages).
+DIMENSIONS: dict[str, tuple[str, str, str]] = {
+    "length": ("[length]", "m", "'0.3 m'"),
+    "pressure": ("[pressure]", "Pa", "'2.5 bar'"),
+    "temperature": ("[temperature]", "K", "'305 K' or '12 degC'"),
+    "temperature_difference": ("[temperature]", "K", "'0.2 K'"),
+    "speed": ("[velocity]", "m/s", "'230 m/s'"),
+    "dimensionless": ("", "", "'0.78' or '2 %'"),
+}
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_RELATIVE_UNITS = {"percent", "permille", "ppm"}
+
+
+@dataclass(frozen=True)
+class Parsed:
+    """A parsed study value: SI magnitude and whether it is relative (``%``)."""
+
+    value: float
+    relative: bool
+
+
+def _split(key: str, text: object, expected: str) -> tuple[float, str]:
+    if isinstance(text, bool):
+        raise StudyError(key, text, expected)
+    if isinstance(text, (int, float)):
+        return float(text), ""
+    if not isinstance(text, str):
+        raise StudyError(key, text, expected)
+    m = _NUMBER.match(text)
+    if not m:
+        raise StudyError(key, text, expected, "write a number followed by its unit")
+    return float(m.group(1)), m.group(2)
+
+
+def _quantity(key: str, text: object, expected: str) -> pint.Quantity:
+    magnitude, unit = _split(key, text, expected)
+    try:
+        units = ureg.parse_units(unit) if unit else ureg.dimensionless
+    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError,
+            AttributeError, TypeError, ValueError, AssertionError) as exc:
+        raise StudyError(key, text, expected, f"unknown unit '{unit}'") from exc
+    return ureg.Quantity(magnitude, units)
+
+
+def parse(key: str, text: object, dimension: str, *, allow_relative: bool = False) -> Parsed:
+    """Parse one study value to SI.
+
+    Parameters
+    ----------
+    key : str
+        Dotted study key, for error messages.
+    text : str or float
+        The value as written, e.g. ``"4.5 bar"``; a bare number is taken as
+        SI for dimensionless quantities only.
+    dimension : str
+        One of :data:`DIMENSIONS`.
+    allow_relative : bool
+        Accept ``%``, ``permille`` or ``ppm`` and return ``relative=True``
+        with the value as a fraction.
+
+    Returns
+    -------
+    Parsed
+        SI magnitude (``K`` for temperatures, ``Pa`` for pressures, ...).
+
+    Examples
+    --------
+    >>> parse("a", "4.5 bar", "pressure").value
+    450000.0
+    >>> round(parse("a", "12 degC", "temperature").value, 2)
+    285.15
+    >>> parse("a", "0.05 %", "pressure", allow_relative=True)
+    Parsed(value=0.0005, relative=True)
+    """
+    dim, si, example = DIMENSIONS[dimension]
+    expected = f"a {dimension.replace('_', ' ')} such as {example}"
+    if allow_relative:
+        expected += " or a percentage of reading such as '0.05 %'"
+    q = _quantity(key, text, expected)
+    unit_name = str(q.units)
+    if unit_name in _RELATIVE_UNITS:
+        fraction = float(q.to("dimensionless").magnitude)
+        if allow_relative:
+            return Parsed(fraction, True)
+        if dimension == "dimensionless":
+            return Parsed(fraction, False)
+        raise StudyError(key, text, expected)
+    if dimension == "temperature_difference" and unit_name in ("degree_Celsius", "degree_Fahrenheit"):
+        q = ureg.Quantity(q.magnitude, "delta_" + ("degC" if "Celsius" in unit_name else "degF"))
+    if dim == "":
+        if not q.dimensionless:
+            raise StudyError(key, text, expected)
+        return Parsed(float(q.to("dimensionless").magnitude), False)
+    if not q.check(dim):
+        raise StudyError(key, text, expected)
+    if dimension == "temperature" and unit_name.startswith("delta_"):
+        raise StudyError(key, text, expected, "an absolute temperature, not a difference")
+    return Parsed(float(q.to(si).magnitude), False)
+
+
+def to_si(key: str, text: object, dimension: str) -> float:
+    """Parse an absolute (never relative) study value to an SI float.
+
+    >>> to_si("model.reference_length", "30 cm", "length")
+    0.3
+    """
+    return parse(key, text, dimension).value

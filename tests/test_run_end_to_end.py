@@ -1,0 +1,126 @@
+"""End-to-end: the demo study through the command line and the Python API.
+
+Physics values are checked in the reference tests; here the checks are on the
+report files, the results.json schema, reproducibility from the seed and the
+JCGM 100:2008 conversions of specifications to standard uncertainties.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import simunc
+from simunc.cli import main
+from simunc.inputs import make_distribution, standard_uncertainty
+from simunc.study import InputSpec
+from simunc.units import Parsed
+
+from .conftest import DEMO
+
+
+@pytest.fixture(scope="module")
+def demo_run(tmp_path_factory):
+    out = tmp_path_factory.mktemp("report")
+    code = main(["run", str(DEMO), "--out", str(out), "--trials", "20000", "--seed", "7",
+                 "--samples", "csv"])
+    assert code == 0
+    return out
+
+
+def test_report_files(demo_run):
+    names = {p.name for p in demo_run.iterdir()}
+    assert {"report.md", "report.html", "results.json", "reynolds_ratio_histogram.png",
+            "sobol_indices.png", "samples.csv"} <= names
+    assert not [n for n in names if n.startswith(".simunc-")]  # temporary folder removed
+
+
+def test_html_is_self_contained(demo_run):
+    page = (demo_run / "report.html").read_text()
+    assert page.count("data:image/png;base64,") == 2
+    assert "src=\"http" not in page and "href=\"http" not in page
+
+
+def test_report_sections(demo_run):
+    md = (demo_run / "report.md").read_text()
+    for heading in ("## Summary", "## Matched set point", "## Uncertain inputs",
+                    "## Sensitivity (Sobol indices)", "## Which input to control more tightly",
+                    "## Safety", "## Reproducibility"):
+        assert heading in md
+    assert "pressure-equipment code" in md and "not certification" in md
+    assert "20000" in md and "| seed" in md
+
+
+def test_results_json_schema(demo_run):
+    doc = json.loads((demo_run / "results.json").read_text())
+    assert doc["schema_version"] == 1
+    assert doc["run"]["trials"] == 20000 and doc["run"]["seed"] == 7
+    assert len(doc["study"]["sha256"]) == 64
+    sp = doc["setpoint"]
+    assert sp["solve_for"] == "stagnation_pressure" and sp["feasible"] is True
+    assert sp["outputs"]["reynolds_ratio"] == pytest.approx(1.0, abs=1e-12)
+    for key in ("reynolds_ratio", "mach_difference", "reynolds_model", "mach_model",
+                "dynamic_pressure", "speed", "density", "viscosity"):
+        o = doc["outputs"][key]
+        lo, hi = o["coverage_interval"]
+        assert lo <= o["mean"] <= hi and o["standard_uncertainty"] >= 0.0
+    p = doc["conformity"]["probability"]
+    assert 0.0 <= p["all"] <= min(p["reynolds"], p["mach"]) <= 1.0
+    assert set(doc["sensitivity"]["indices"]) == {"reynolds_ratio", "mach_difference"}
+    assert [r["rank"] for r in doc["ranking"]] == list(range(1, len(doc["inputs"]) + 1))
+
+
+def test_samples_csv_matches_statistics(demo_run):
+    frame = pd.read_csv(demo_run / "samples.csv")
+    doc = json.loads((demo_run / "results.json").read_text())
+    assert len(frame) == 20000
+    assert frame["reynolds_ratio"].mean() == pytest.approx(doc["outputs"]["reynolds_ratio"]["mean"],
+                                                           rel=1e-12)
+
+
+def test_same_seed_bit_identical_and_other_seed_differs():
+    study = simunc.load_study(DEMO)
+    a = simunc.run(study, trials=5000, seed=11)
+    b = simunc.run(study, trials=5000, seed=11)
+    c = simunc.run(study, trials=5000, seed=12)
+    assert np.array_equal(a.output_values["reynolds_ratio"], b.output_values["reynolds_ratio"])
+    assert a.statistics.equals(b.statistics)
+    assert not np.array_equal(a.output_values["reynolds_ratio"], c.output_values["reynolds_ratio"])
+
+
+def test_api_returns_dataframes():
+    result = simunc.run(simunc.load_study(DEMO), trials=2000, seed=1)
+    assert isinstance(result.statistics, pd.DataFrame)
+    assert isinstance(result.ranking, pd.DataFrame)
+    assert isinstance(result.sobol["reynolds_ratio"], pd.DataFrame)
+    assert set(result.sobol["reynolds_ratio"].columns) == {"S1", "S1_conf", "ST", "ST_conf"}
+
+
+def test_check_command(capsys):
+    assert main(["check", str(DEMO)]) == 0
+    out = capsys.readouterr().out
+    assert "valid study" in out and "feasible" in out
+
+
+def _spec(kind, dist, value, relative=False, k=1.0):
+    return InputSpec("x", "stagnation_pressure_indication", dist, kind, Parsed(value, relative), k,
+                     str(value), "", "uncertain[0]")
+
+
+def test_gum_type_b_conversions():
+    # JCGM 100:2008 4.3.7: rectangular limits +-a give u = a / sqrt(3);
+    # 4.3.9: symmetric triangular +-a gives u = a / sqrt(6); 4.3.3: u = U / k.
+    assert standard_uncertainty(_spec("half_width", "rectangular", 3.0), None) == pytest.approx(
+        3.0 / math.sqrt(3.0), rel=1e-15)
+    assert standard_uncertainty(_spec("half_width", "triangular", 3.0), None) == pytest.approx(
+        3.0 / math.sqrt(6.0), rel=1e-15)
+    assert standard_uncertainty(_spec("expanded_uncertainty", "normal", 0.002, True, 2.0),
+                                5.0e5) == pytest.approx(500.0, rel=1e-12)
+    for kind in ("normal", "rectangular", "triangular"):
+        d = make_distribution(kind, 0.7)
+        assert d.mean() == pytest.approx(0.0, abs=1e-15)
+        assert d.std() == pytest.approx(0.7, rel=1e-12)

@@ -75,7 +75,8 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
     Target("viscosity_model", "dimensionless", None,
            "relative error of the viscosity model at the tunnel state (mu = mu_model (1 + e))"),
     Target("sutherland_constant", "temperature_difference", "sutherland",
-           "Sutherland-constant deviation, acting on tunnel and full scale alike"),
+           "Sutherland-constant deviation of the tunnel gas (and of full scale when it is the "
+           "same gas)"),
     Target("full_scale_temperature", "temperature_difference", "full_scale_temperature",
            "full-scale static temperature deviation (offset from the stated atmosphere)"),
     Target("full_scale_speed", "speed", "full_scale_speed",
@@ -198,7 +199,7 @@ class SimilitudeModel:
             mach_fs = groups.mach(speed_fs, a_fs)
         re_fs = groups.reynolds(fg.density(p_fs, t_fs), speed_fs,
                                 np.asarray(x["full_scale_length"], dtype=float),
-                                fg.viscosity(t_fs, s))
+                                fg.viscosity(t_fs, s if fg == g else None))
         out = {
             "reynolds_ratio": re_model / re_fs,
             "mach_difference": mach - mach_fs,

@@ -28,6 +28,7 @@ _BRACKETS = {
     "model_length": (1.0e-6, 1.0e4),         # m
     "mach": (1.0e-4, 0.9999),                # -
 }
+_UNITS = {"stagnation_pressure": "Pa", "model_length": "m", "mach": "1"}
 _UNKNOWN_KEY = {"stagnation_pressure": "stagnation_pressure", "model_scale": "model_length",
                 "speed": "mach"}
 
@@ -95,6 +96,11 @@ def build_model(study: Study) -> SimilitudeModel:
                            full_scale_given=study.full_scale.given)
 
 
+def _q(value: float, unit: str) -> str:
+    """A value with its unit for messages (no unit for dimensionless values)."""
+    return f"{value:.6g} {unit}" if unit and unit != "1" else f"{value:.6g}"
+
+
 def _scalar(out: dict) -> dict:
     return {k: float(np.asarray(v)) for k, v in out.items()}
 
@@ -146,30 +152,31 @@ def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
 
     a, b = (math.log(lo), math.log(hi)) if log else (lo, hi)
     fa, fb = residual(a), residual(b)
+    if key == "stagnation_pressure":
+        bounds = [("min", fac.stagnation_pressure_range[0]), ("max", fac.stagnation_pressure_range[1])]
+    elif key == "model_length":
+        bounds = [("max", fac.max_model_reference_length)] if fac.max_model_reference_length else []
+    else:
+        bounds = [("min", mach_lo), ("max", mach_hi)]
     if fa * fb > 0.0:
         if key != "mach":
             raise InfeasibleError(f"no {study.solve_for.replace('_', ' ')} between {lo:g} and "
                                   f"{hi:g} (SI) matches the Reynolds number")
+        # Re(Ma) is monotonic: every subsonic Mach number falls short (or overshoots).
         required = math.nan
-        value = hi if fb < 0.0 else lo
+        value = mach_hi if fb < 0.0 else max(mach_lo, lo)
+        messages.append(
+            "No subsonic test-section Mach number matches the Reynolds number; the facility's "
+            f"{'highest' if fb < 0.0 else 'lowest'} Mach number {value:g} is used.")
     else:
         root = brentq(residual, a, b, xtol=1e-14, rtol=1e-13, maxiter=200)
         required = math.exp(root) if log else root
         value = required
 
     # Facility limits on the solved quantity: clamp to the nearest achievable value.
-    if key == "stagnation_pressure":
-        bounds = [("min", fac.stagnation_pressure_range[0]), ("max", fac.stagnation_pressure_range[1])]
-        unit = "Pa"
-    elif key == "model_length":
-        bounds = [("max", fac.max_model_reference_length)] if fac.max_model_reference_length else []
-        unit = "m"
-    else:
-        bounds = [("min", mach_lo), ("max", mach_hi)]
-        unit = "1"
     clamped = value
     for side, bound in bounds:
-        limits.append(Limit(key, side, bound, value, unit))
+        limits.append(Limit(key, side, bound, value, _UNITS[key]))
         clamped = min(clamped, bound) if side == "max" else max(clamped, bound)
     nominal[key] = clamped
 
@@ -188,19 +195,22 @@ def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
     for lim in limits:
         if not lim.ok:
             word = "above the facility maximum" if lim.side == "max" else "below the facility minimum"
-            messages.append(f"{lim.quantity.replace('_', ' ')} {lim.value:.6g} {lim.unit} is {word} "
-                            f"{lim.bound:.6g} {lim.unit}.")
-    if math.isnan(required):
-        messages.append(f"No subsonic test-section Mach number matches the Reynolds number; the "
-                        f"facility's Mach limit {value:g} is used.")
+            what = "required" if lim.quantity == key else "given"
+            messages.append(f"The {what} {lim.quantity.replace('_', ' ')} {_q(lim.value, lim.unit)} is "
+                            f"{word} {_q(lim.bound, lim.unit)}.")
     if clamped != value or math.isnan(required):
-        messages.append(f"Nearest achievable set point: {key.replace('_', ' ')} = {clamped:.6g} {unit}, "
+        messages.append(f"Nearest achievable set point: {key.replace('_', ' ')} = "
+                        f"{_q(clamped, _UNITS[key])}, "
                         f"giving Re_model / Re_full = {outputs['reynolds_ratio']:.4f} "
                         f"(Reynolds shortfall {100 * (outputs['reynolds_ratio'] - 1):+.2f} %).")
     matched = abs(outputs["reynolds_ratio"] - 1.0) < 1e-9
     if study.band("mach") is not None:
         matched = matched and abs(outputs["mach_difference"]) < 1e-9
     feasible = matched and all(lim.ok for lim in limits)
+    if study.band("mach") is not None and key == "mach":
+        messages.append("With match.solve_for = 'speed' the Mach number follows from the Reynolds "
+                        "match; the Mach band is checked, not imposed: Ma_model - Ma_full = "
+                        f"{outputs['mach_difference']:+.4f}.")
     if study.band("mach") is None:
         messages.append(f"The Mach number is not matched: Ma_model - Ma_full = "
                         f"{outputs['mach_difference']:+.4f}.")

@@ -160,6 +160,7 @@ class FullScale:
     reference_length: float
     altitude: float | None = None
     temperature_offset: float = 0.0
+    mach: float = 0.0  # nominal full-scale Mach number (= value when given is "mach")
 
 
 @dataclass(frozen=True)
@@ -272,9 +273,9 @@ def _full_scale(t: _Table) -> FullScale:
                           why="needed with full_scale.static_pressure")
     given = t.exclusive(("mach", "speed"))
     if given == "mach":
-        value = t.number("mach", low=0.0, high=1.0, low_open=True, high_open=True,
-                         what="a Mach number above 0 and below 1 (only subsonic relations "
-                              "are implemented)")
+        value = m = t.number("mach", low=0.0, high=1.0, low_open=True, high_open=True,
+                             what="a Mach number above 0 and below 1 (only subsonic relations "
+                                  "are implemented)")
     else:
         value = t.quantity("speed", "speed")
         m = value / float(AIR.speed_of_sound(temp))
@@ -282,7 +283,7 @@ def _full_scale(t: _Table) -> FullScale:
             raise StudyError(t.key("speed"), t.data["speed"],
                              f"a subsonic speed (this gives Mach {m:.3f}; only subsonic relations "
                              "are implemented)")
-    return FullScale(pres, temp, given, value, t.quantity("reference_length", "length"), z, dt)
+    return FullScale(pres, temp, given, value, t.quantity("reference_length", "length"), z, dt, m)
 
 
 def _facility(t: _Table) -> Facility:
@@ -358,8 +359,8 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
             raw = bt.require("tolerance")
             parsed = parse(bt.key("tolerance"), raw, "dimensionless", allow_relative=True)
             tol = parsed.value
-            if g == "mach" and parsed.relative and fs.given == "mach":
-                tol = parsed.value * fs.value
+            if g == "mach" and parsed.relative:
+                tol = parsed.value * fs.mach
             if not (math.isfinite(tol) and tol > 0.0):
                 raise StudyError(bt.key("tolerance"), raw, "a tolerance greater than zero")
             bands.append(Band(g, tol, str(raw)))

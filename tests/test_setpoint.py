@@ -347,3 +347,36 @@ def test_study_dict_not_mutated():
     before = copy.deepcopy(d)
     solved(d)
     assert d == before
+
+
+# ---------------------------------------------------------------------------
+# Messages and bands (simunc's own contract; values from the hand formulas above)
+# ---------------------------------------------------------------------------
+def test_unreachable_speed_messages_name_the_facility_limit():
+    d = base_study()
+    d["facility"]["stagnation_pressure"] = "4 bar"
+    d["match"] = {"solve_for": "speed", "reynolds": {"tolerance": "1 %"}}
+    sp = solved(d)
+    text = " ".join(sp.messages)
+    assert "highest Mach number 0.92 is used" in text
+    assert "0.9999" not in text
+    assert all(lim.value == pytest.approx(0.92) for lim in sp.limits if lim.quantity == "mach")
+
+
+def test_speed_solve_with_mach_band_explains_the_mismatch():
+    d = base_study()
+    d["facility"]["stagnation_pressure"] = "8 bar"
+    d["match"]["solve_for"] = "speed"
+    sp = solved(d)
+    assert not sp.feasible
+    assert any("checked, not imposed" in m for m in sp.messages)
+
+
+def test_relative_mach_tolerance_is_a_fraction_of_the_full_scale_mach():
+    # 1 % of Ma_full whether full scale is given by Mach or by speed (V = Ma a, a by hand).
+    d = base_study()
+    d["match"]["mach"] = {"tolerance": "1 %"}
+    assert parse_study(d).band("mach").tolerance == pytest.approx(0.01 * M_FS, rel=1e-12)
+    d["full_scale"].pop("mach")
+    d["full_scale"]["speed"] = f"{M_FS * sound_hand(T_FS)} m/s"
+    assert parse_study(d).band("mach").tolerance == pytest.approx(0.01 * M_FS, rel=1e-12)

@@ -1,8 +1,12 @@
 """U.S. Standard Atmosphere 1976 (identical to ISO 2533 below 32 km), vectorized.
 
-Layers from -5 km to 86 km geometric altitude (84.852 km geopotential), with
-an optional temperature offset ("ISA + dT" days: the pressure at a given
-altitude stays the standard one, the temperature is shifted).
+Seven layers from -5 km to 86 km geometric altitude (84.852 km geopotential),
+with an optional temperature offset ("ISA + dT" days: the pressure at a given
+altitude stays the standard one, the temperature is shifted), geometric and
+geopotential altitude both ways, and pressure altitude.  Above 80 km the
+kinetic temperature is the molecular-scale temperature times the tabulated
+molecular-weight ratio M/M0 ([1], Table 8); the pressure follows from the
+molecular-scale temperature as the standard defines it.
 
 References
 ----------
@@ -51,6 +55,11 @@ _T_BASE, _P_BASE = _base_values()
 #: Validity range in geometric altitude [m].
 ALTITUDE_RANGE = (-5_000.0, 86_000.0)
 
+#: Molecular-weight ratio M/M0 from 80 to 86 km geometric altitude ([1], Table 8).
+_Z_RATIO = np.arange(80_000.0, 86_001.0, 500.0)
+_M_RATIO = np.array([1.000000, 0.999996, 0.999988, 0.999969, 0.999938, 0.999904, 0.999864,
+                     0.999822, 0.999778, 0.999731, 0.999681, 0.999633, 0.999579])
+
 
 def geopotential_altitude(z):
     """Geopotential altitude from geometric altitude.
@@ -78,13 +87,87 @@ def geopotential_altitude(z):
     return EARTH_RADIUS * z / (EARTH_RADIUS + z)
 
 
+def geometric_altitude(h):
+    """Geometric altitude from geopotential altitude, ``z = r0 H / (r0 - H)``.
+
+    Parameters
+    ----------
+    h : array_like
+        Geopotential altitude [m'].
+
+    Returns
+    -------
+    ndarray
+        Geometric altitude [m] ([1], eq. 18 inverted).
+
+    Examples
+    --------
+    U.S. Standard Atmosphere 1976, Table 4: the 84.852 km' layer top is 86 km geometric.
+
+    >>> round(float(geometric_altitude(84_852.0)))
+    86000
+    """
+    h = np.asarray(h, dtype=float)
+    return EARTH_RADIUS * h / (EARTH_RADIUS - h)
+
+
+def _layer_state(h):
+    """Molecular-scale temperature [K] and pressure [Pa] at geopotential altitude h [m']."""
+    i = np.clip(np.searchsorted(_H_BASE, h, side="right") - 1, 0, len(_LAPSE) - 1)
+    lapse = _LAPSE[i]
+    t_b = _T_BASE[i]
+    dh = h - _H_BASE[i]
+    t = t_b + lapse * dh
+    k = G0 / AIR.gas_constant
+    safe_lapse = np.where(lapse == 0.0, 1.0, lapse)
+    p_grad = _P_BASE[i] * (t / t_b) ** (-k / safe_lapse)
+    p_iso = _P_BASE[i] * np.exp(-k * dh / t_b)
+    return t, np.where(lapse == 0.0, p_iso, p_grad)
+
+
+def pressure_altitude(p):
+    """Geopotential altitude at which the standard pressure equals ``p``.
+
+    Inverts the layer equations ([1], eqs. 33a, 33b):
+    ``H = H_b + T_b / L ((p / p_b)^(-R L / g0) - 1)`` or, for ``L = 0``,
+    ``H = H_b - R T_b ln(p / p_b) / g0``.
+
+    Parameters
+    ----------
+    p : array_like
+        Static pressure [Pa], between the standard pressures at -5 km and 86 km.
+
+    Returns
+    -------
+    ndarray
+        Pressure altitude (geopotential) [m'].
+
+    Examples
+    --------
+    Tropopause pressure of [1], Table 4 (22 632.06 Pa) is 11 000 m'.
+
+    >>> round(float(pressure_altitude(22_632.06)), 1)
+    11000.0
+    """
+    p = np.asarray(p, dtype=float)
+    i = np.clip(len(_P_BASE) - np.searchsorted(_P_BASE[::-1], p, side="left") - 1, 0, len(_LAPSE) - 1)
+    lapse = _LAPSE[i]
+    k = G0 / AIR.gas_constant
+    ratio = p / _P_BASE[i]
+    safe_lapse = np.where(lapse == 0.0, 1.0, lapse)
+    h_grad = _H_BASE[i] + _T_BASE[i] / safe_lapse * (ratio ** (-safe_lapse / k) - 1.0)
+    h_iso = _H_BASE[i] - _T_BASE[i] * np.log(ratio) / k
+    return np.where(lapse == 0.0, h_iso, h_grad)
+
+
 def standard_state(z, temperature_offset=0.0):
     """Static temperature and pressure of the standard atmosphere.
 
-    In a layer with base ``(H_b, T_b, p_b)`` and lapse rate ``L``:
-    ``T = T_b + L (H - H_b)``; ``p = p_b (T / T_b)^(-g0 / (R L))`` for
+    In a layer with base ``(H_b, T_b, p_b)`` and lapse rate ``L``, the
+    molecular-scale temperature is ``T_M = T_b + L (H - H_b)``; ``p = p_b (T / T_b)^(-g0 / (R L))`` for
     ``L != 0`` and ``p = p_b exp(-g0 (H - H_b) / (R T_b))`` for ``L = 0``
-    ([1], eqs. 33a, 33b).  The temperature offset ``dT`` is added to ``T``
+    ([1], eqs. 33a, 33b), with ``T_M`` in place of ``T``; the kinetic
+    temperature is ``T = T_M M / M0`` (1 below 80 km).  The temperature offset ``dT`` is added to ``T``
     afterwards; the pressure stays the standard one.
 
     Parameters
@@ -110,15 +193,6 @@ def standard_state(z, temperature_offset=0.0):
     (216.65, 22632)
     """
     z = np.asarray(z, dtype=float)
-    h = geopotential_altitude(z)
-    i = np.clip(np.searchsorted(_H_BASE, h, side="right") - 1, 0, len(_LAPSE) - 1)
-    lapse = _LAPSE[i]
-    t_b = _T_BASE[i]
-    dh = h - _H_BASE[i]
-    t = t_b + lapse * dh
-    k = G0 / AIR.gas_constant
-    safe_lapse = np.where(lapse == 0.0, 1.0, lapse)
-    p_grad = _P_BASE[i] * (t / t_b) ** (-k / safe_lapse)
-    p_iso = _P_BASE[i] * np.exp(-k * dh / t_b)
-    p = np.where(lapse == 0.0, p_iso, p_grad)
+    t_m, p = _layer_state(geopotential_altitude(z))
+    t = t_m * np.interp(z, _Z_RATIO, _M_RATIO, left=1.0, right=_M_RATIO[-1])
     return t + np.asarray(temperature_offset, dtype=float), p

@@ -29,7 +29,7 @@ DISTRIBUTIONS = {"normal": "normal", "gaussian": "normal", "rectangular": "recta
 MACH_FROM = ("pressure_ratio", "indication")
 
 _ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain", "run")
-_FULL_SCALE_KEYS = ("altitude", "temperature_offset", "static_pressure", "static_temperature",
+_FULL_SCALE_KEYS = ("altitude", "pressure_altitude", "temperature_offset", "static_pressure", "static_temperature",
                     "mach", "speed", "reference_length")
 _FACILITY_KEYS = ("name", "gas", "stagnation_temperature", "stagnation_pressure",
                   "stagnation_pressure_range", "max_model_reference_length", "mach", "mach_range",
@@ -245,29 +245,36 @@ class Study:
 
 
 def _full_scale(t: _Table) -> FullScale:
-    kind = t.exclusive(("altitude", "static_pressure"))
-    if kind == "altitude":
-        for k in ("static_temperature",):
-            if t.has(k):
-                raise StudyError(t.key(k), "together with full_scale.altitude",
-                                 "either altitude (with temperature_offset) or static_pressure "
-                                 "and static_temperature")
-        z = t.quantity("altitude", "length", positive=False)
+    kind = t.exclusive(("altitude", "pressure_altitude", "static_pressure"))
+    z, dt = None, 0.0
+    if kind in ("altitude", "pressure_altitude"):
         lo, hi = atmosphere.ALTITUDE_RANGE
-        if not lo <= z <= hi:
-            raise StudyError(t.key("altitude"), t.data["altitude"],
-                             f"a geometric altitude from {lo:g} m to {hi:g} m")
-        dt = t.quantity("temperature_offset", "temperature_difference", positive=False, default=0.0)
-        temp, pres = atmosphere.standard_state(z, dt)
-        temp, pres = float(temp), float(pres)
-        if temp <= 0.0:
-            raise StudyError(t.key("temperature_offset"), t.data["temperature_offset"],
-                             "an offset that leaves the temperature above 0 K")
+        h = t.quantity(kind, "length", positive=False)
+        if kind == "altitude":
+            z = h
+        else:
+            lo, hi = (float(atmosphere.geopotential_altitude(v)) for v in (lo, hi))
+            z = float(atmosphere.geometric_altitude(h))
+        if not lo <= h <= hi:
+            raise StudyError(t.key(kind), t.data[kind],
+                             f"an altitude from {lo:.6g} m to {hi:.6g} m "
+                             f"({'geometric' if kind == 'altitude' else 'geopotential'})")
+        if t.exclusive(("temperature_offset", "static_temperature"), required=False) == \
+                "static_temperature":
+            pres = float(atmosphere.standard_state(z)[1])
+            temp = t.quantity("static_temperature", "temperature")
+            dt = temp - float(atmosphere.standard_state(z)[0])
+        else:
+            dt = t.quantity("temperature_offset", "temperature_difference", positive=False, default=0.0)
+            temp, pres = (float(v) for v in atmosphere.standard_state(z, dt))
+            if temp <= 0.0:
+                raise StudyError(t.key("temperature_offset"), t.data["temperature_offset"],
+                                 "an offset that leaves the temperature above 0 K")
     else:
         if t.has("temperature_offset"):
             raise StudyError(t.key("temperature_offset"), "together with full_scale.static_pressure",
-                             "a temperature offset only with full_scale.altitude")
-        z, dt = None, 0.0
+                             "a temperature offset only with full_scale.altitude or "
+                             "full_scale.pressure_altitude")
         pres = t.quantity("static_pressure", "pressure")
         temp = t.quantity("static_temperature", "temperature",
                           why="needed with full_scale.static_pressure")

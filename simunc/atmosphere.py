@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .gas import AIR
+from .fluids.ideal_gas import AIR
 
 #: Standard acceleration of gravity g0 [m s^-2] ([1], Table 2).
 G0 = 9.80665

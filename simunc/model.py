@@ -29,7 +29,7 @@ from typing import Mapping
 import numpy as np
 
 from . import flow, groups
-from .gas import IdealGas
+from .fluids import Fluid
 
 
 @dataclass(frozen=True)
@@ -138,8 +138,8 @@ class SimilitudeModel:
         temperature varies) or a speed [m/s].
     """
 
-    gas: IdealGas
-    full_scale_gas: IdealGas
+    gas: Fluid
+    full_scale_gas: Fluid
     mach_from: str = "pressure_ratio"
     full_scale_given: str = "mach"
 
@@ -179,17 +179,17 @@ class SimilitudeModel:
         t = t0 * flow.temperature_ratio(mach, gamma)
         p = p0 * flow.pressure_ratio(mach, gamma)
         rho = g.density(p, t)
-        a = g.speed_of_sound(t)
+        a = g.speed_of_sound(p, t)
         speed = mach * a
         s = np.asarray(x["sutherland"], dtype=float) + d("sutherland_constant")
-        mu = g.viscosity(t, s) * (1.0 + d("viscosity_model"))
+        mu = g.viscosity(p, t, sutherland=s) * (1.0 + d("viscosity_model"))
         length = np.asarray(x["model_length"], dtype=float) + d("model_reference_length")
         re_model = groups.reynolds(rho, speed, length, mu)
 
         fg = self.full_scale_gas
         t_fs = np.asarray(x["full_scale_static_temperature"], dtype=float) + d("full_scale_temperature")
         p_fs = np.asarray(x["full_scale_static_pressure"], dtype=float)
-        a_fs = fg.speed_of_sound(t_fs)
+        a_fs = fg.speed_of_sound(p_fs, t_fs)
         given = np.asarray(x["full_scale_speed_or_mach"], dtype=float)
         if self.full_scale_given == "mach":
             mach_fs = given + d("full_scale_mach") + d("full_scale_speed") / a_fs
@@ -199,7 +199,7 @@ class SimilitudeModel:
             mach_fs = groups.mach(speed_fs, a_fs)
         re_fs = groups.reynolds(fg.density(p_fs, t_fs), speed_fs,
                                 np.asarray(x["full_scale_length"], dtype=float),
-                                fg.viscosity(t_fs, s if fg == g else None))
+                                fg.viscosity(p_fs, t_fs, sutherland=s if fg == g else None))
         out = {
             "reynolds_ratio": re_model / re_fs,
             "mach_difference": mach - mach_fs,

@@ -18,7 +18,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from .errors import InfeasibleError
-from .gas import AIR
+from .fluids.ideal_gas import AIR
 from .model import SimilitudeModel
 from .study import Study
 

@@ -18,7 +18,7 @@ from typing import Any
 
 from . import atmosphere
 from .errors import StudyError
-from .gas import AIR, GASES, IdealGas
+from .fluids import AIR, FLUIDS, Fluid
 from .model import TARGETS
 from .units import Parsed, parse, to_si
 
@@ -168,7 +168,7 @@ class Facility:
     """Facility description in SI."""
 
     name: str
-    gas: IdealGas
+    gas: Fluid
     stagnation_temperature: float
     stagnation_pressure_range: tuple[float, float]
     stagnation_pressure: float | None
@@ -285,7 +285,7 @@ def _full_scale(t: _Table) -> FullScale:
                                   "are implemented)")
     else:
         value = t.quantity("speed", "speed")
-        m = value / float(AIR.speed_of_sound(temp))
+        m = value / float(AIR.speed_of_sound(pres, temp))
         if m >= 1.0:
             raise StudyError(t.key("speed"), t.data["speed"],
                              f"a subsonic speed (this gives Mach {m:.3f}; only subsonic relations "
@@ -294,7 +294,7 @@ def _full_scale(t: _Table) -> FullScale:
 
 
 def _facility(t: _Table) -> Facility:
-    gas = t.choice("gas", {name: g for name, g in GASES.items()}, default=AIR.name)
+    gas = t.choice("gas", dict(FLUIDS), default=AIR.name)
     p_range = t.pair("stagnation_pressure_range", "pressure")
     if p_range is None:
         t.require("stagnation_pressure_range", "the facility's [lowest, highest] stagnation pressure")

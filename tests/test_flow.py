@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from simunc import flow
-from simunc.gas import AIR, T_REF
+from simunc.fluids.ideal_gas import AIR, T_REF
 
 # NACA Report 1135, Table I (subsonic flow, gamma = 1.4):
 # M, p/p0, rho/rho0, T/T0, q/p0 (None where the entry is not recalled reliably).
@@ -120,7 +120,7 @@ WHITE_MU0, WHITE_T0, WHITE_S = 1.716e-5, 273.0, 111.0
 
 def test_white_reference_viscosity():
     # Four significant digits in the reference: rounding <= 3e-4 relative.
-    assert float(AIR.viscosity(WHITE_T0)) == pytest.approx(WHITE_MU0, rel=1e-3)
+    assert float(AIR.viscosity(1e5, WHITE_T0)) == pytest.approx(WHITE_MU0, rel=1e-3)
 
 
 @pytest.mark.parametrize("t", [200.0, 250.0, 300.0, 400.0, 600.0, 1000.0])
@@ -130,7 +130,7 @@ def test_against_white_sutherland_fit(t):
     # most |dS| |1/(T+S) - 1/(T0+S)| + 4e-4 (rounding of mu0) ~ 1.4e-3 at 1000 K,
     # so 3e-3 is a bound that a wrong exponent or constant would still break.
     white = WHITE_MU0 * (t / WHITE_T0) ** 1.5 * (WHITE_T0 + WHITE_S) / (t + WHITE_S)
-    assert float(AIR.viscosity(t)) == pytest.approx(white, rel=3e-3)
+    assert float(AIR.viscosity(1e5, t)) == pytest.approx(white, rel=3e-3)
 
 
 # U.S. Standard Atmosphere 1976, Table I viscosities at the table temperatures
@@ -138,26 +138,26 @@ def test_against_white_sutherland_fit(t):
 @pytest.mark.parametrize("t, mu", [(288.150, 1.7894e-5), (216.774, 1.4223e-5), (216.650, 1.4216e-5),
                                    (255.676, 1.6282e-5)])
 def test_ussa_table_viscosity(t, mu):
-    assert float(AIR.viscosity(t)) == pytest.approx(mu, rel=1e-4)
+    assert float(AIR.viscosity(1e5, t)) == pytest.approx(mu, rel=1e-4)
 
 
 def test_ussa_eq51_vectorized():
     # USSA 1976 eq. 51: mu = beta T^1.5 / (T + S), beta = 1.458e-6, S = 110.4 K
     # (from memory of U.S. Standard Atmosphere 1976), hand evaluation.
     t = np.linspace(150.0, 1500.0, 50)
-    np.testing.assert_allclose(AIR.viscosity(t), 1.458e-6 * t**1.5 / (t + 110.4), rtol=1e-12)
+    np.testing.assert_allclose(AIR.viscosity(1e5, t), 1.458e-6 * t**1.5 / (t + 110.4), rtol=1e-12)
 
 
 def test_sutherland_argument_keeps_reference_viscosity():
     # Documented behaviour: varying S keeps mu(T_ref) and changes the T dependence only.
     mu_ref = 1.458e-6 * T_REF**1.5 / (T_REF + 110.4)
     for s in (90.0, 110.4, 130.0):
-        assert float(AIR.viscosity(T_REF, sutherland=s)) == pytest.approx(mu_ref, rel=1e-13)
+        assert float(AIR.viscosity(1e5, T_REF, sutherland=s)) == pytest.approx(mu_ref, rel=1e-13)
     t, s = 400.0, 125.0
     hand = mu_ref * (t / T_REF) ** 1.5 * (T_REF + s) / (t + s)
-    assert float(AIR.viscosity(t, sutherland=s)) == pytest.approx(hand, rel=1e-13)
+    assert float(AIR.viscosity(1e5, t, sutherland=s)) == pytest.approx(hand, rel=1e-13)
     # A larger S gives a larger viscosity above T_ref (d mu / d S > 0 for T > T_ref).
-    assert AIR.viscosity(t, sutherland=130.0) > AIR.viscosity(t, sutherland=100.0)
+    assert AIR.viscosity(1e5, t, sutherland=130.0) > AIR.viscosity(1e5, t, sutherland=100.0)
 
 
 def test_gas_constant_and_sea_level_sound_speed():
@@ -165,5 +165,5 @@ def test_gas_constant_and_sea_level_sound_speed():
     # rho0 = 1.2250 kg/m^3 (USSA 1976 Table I sea level, from memory).
     assert AIR.gas_constant == pytest.approx(287.053, abs=5e-4)
     assert AIR.gamma == 1.4
-    assert float(AIR.speed_of_sound(288.15)) == pytest.approx(340.29, abs=6e-3)
+    assert float(AIR.speed_of_sound(1e5, 288.15)) == pytest.approx(340.29, abs=6e-3)
     assert float(AIR.density(101_325.0, 288.15)) == pytest.approx(1.2250, abs=6e-5)

@@ -8,15 +8,27 @@ Python API (mirrors the command line)::
     result = simunc.run(study, trials=100_000, seed=3)
     result.statistics                        # pandas DataFrame, SI
     simunc.write_report(result, "out")       # report.md, report.html, results.json, figures
+
+The names are imported on first use, so ``import simunc.fluids`` (say) does not
+load the report machinery.
 """
+
+from importlib import import_module
 
 __version__ = "0.1.0"
 
-from .analysis import Result, run  # noqa: E402
-from .errors import InfeasibleError, SimuncError, StudyError  # noqa: E402
-from .report import write_report  # noqa: E402
-from .setpoint import SetPoint, solve  # noqa: E402
-from .study import Study, load_study, parse_study  # noqa: E402
+_API = {
+    "load_study": "study", "parse_study": "study", "Study": "study",
+    "solve": "setpoint", "SetPoint": "setpoint",
+    "run": "analysis", "Result": "analysis",
+    "write_report": "report",
+    "SimuncError": "errors", "StudyError": "errors", "InfeasibleError": "errors",
+}
 
-__all__ = ["__version__", "load_study", "parse_study", "solve", "run", "write_report", "Study",
-           "SetPoint", "Result", "SimuncError", "StudyError", "InfeasibleError"]
+__all__ = ["__version__", *_API]
+
+
+def __getattr__(name: str):
+    if name in _API:
+        return getattr(import_module(f".{_API[name]}", __name__), name)
+    raise AttributeError(f"module 'simunc' has no attribute {name!r}")

@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 
 from .inputs import UncertainInput, build_inputs
-from .model import OUTPUTS, SimilitudeModel
+from .model import SimilitudeModel, describe_output
 from .propagate import Problem, monte_carlo, summarize
 from .sensitivity import sobol_indices
 from .setpoint import SetPoint, build_model, solve
@@ -82,9 +82,18 @@ def conformity(y: dict[str, np.ndarray], study: Study) -> dict[str, float]:
     return out
 
 
+def output_order(keys) -> list[str]:
+    """Group comparisons first, then model and full-scale groups, then flow quantities."""
+    def rank(k):
+        return (0 if k.endswith(("_ratio", "_difference")) else 1 if k.endswith("_model") else
+                2 if k.endswith("_full_scale") else 3)
+    return sorted(keys, key=lambda k: (rank(k), list(keys).index(k)))
+
+
 def _statistics(y, setpoint: SetPoint, p: float) -> pd.DataFrame:
     rows = []
-    for key, (unit, label) in OUTPUTS.items():
+    for key in output_order(list(y)):
+        unit, label = describe_output(key)
         s = summarize(y[key], p)
         rows.append({"output": key, "unit": unit, "nominal": setpoint.outputs[key], **s,
                      "label": label})

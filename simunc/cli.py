@@ -58,10 +58,16 @@ def _check(args) -> int:
     sp = solve(study)
     o = sp.outputs
     print(f"{args.study}: valid study '{study.title}' with {len(study.inputs)} uncertain inputs")
-    print(f"set point ({sp.solve_for} solved): p0 = {o['stagnation_pressure']:.6g} Pa, "
-          f"T0 = {o['stagnation_temperature']:.6g} K, Mach = {o['mach_model']:.6g}, "
-          f"model reference length = {o['model_length']:.6g} m; "
-          f"Re ratio = {o['reynolds_ratio']:.6g}; {'feasible' if sp.feasible else 'NOT feasible'}")
+    solved = ", ".join(sp.solve_for) or "nothing"
+    if study.kind == "gas":
+        state = (f"p0 = {o['stagnation_pressure']:.6g} Pa, T0 = {o['stagnation_temperature']:.6g} K, "
+                 f"Mach = {o['mach_model']:.6g}")
+    else:
+        state = (f"U = {o['speed']:.6g} m/s, p = {o['static_pressure']:.6g} Pa, "
+                 f"T = {o['static_temperature']:.6g} K")
+    groups = "; ".join(f"{b.output} = {o[b.output]:.6g}" for b in study.bands)
+    print(f"set point ({solved} solved, {sp.method}): {state}, model reference length = "
+          f"{o['model_length']:.6g} m; {groups}; {'feasible' if sp.feasible else 'NOT feasible'}")
     for m in sp.messages:
         print("  " + m)
     return EXIT_OK

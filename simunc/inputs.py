@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from scipy import stats
 
 from .model import TARGETS
+from .errors import StudyError
 from .setpoint import SetPoint
 from .study import InputSpec
 
@@ -97,6 +98,9 @@ def build_inputs(specs, setpoint: SetPoint) -> list[UncertainInput]:
     out = []
     for spec in specs:
         reading_key = TARGETS[spec.target].reading
+        if reading_key and reading_key not in setpoint.outputs:
+            raise StudyError(f"{spec.key}.perturbs", repr(spec.target),
+                             f"a quantity this study has (no {reading_key.replace('_', ' ')} here)")
         reading = setpoint.outputs[reading_key] if reading_key else None
         u = standard_uncertainty(spec, reading)
         out.append(UncertainInput(spec.name, spec.target, make_distribution(spec.distribution, u),

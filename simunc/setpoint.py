@@ -1,36 +1,44 @@
 """Set-point solver: the facility state that reproduces the full-scale groups.
 
-The Mach number, when matched, is set equal to the full-scale one (clipped to
-the facility's Mach range).  The quantity named by ``match.solve_for``
-(stagnation pressure, model scale or test-section speed) is then found by
-root finding (:func:`scipy.optimize.brentq`) on the same
-:class:`~simunc.model.SimilitudeModel` that the Monte Carlo uses, so that the
-Reynolds-number ratio is 1.  When the root lies outside what the facility can
-do, the nearest achievable value is used and the shortfall reported.
+The unknowns (``match.solve_for`` plus the implicit ones: the Mach number when
+it is matched, the model frequency when the Strouhal number is) are found by
+bounded least squares (:func:`scipy.optimize.least_squares`, trust-region
+reflective) on the same :class:`~simunc.model.SimilitudeModel` the Monte Carlo
+uses.  Each matched group contributes the residual ``ln(G_model / G_full) /
+tolerance`` (``(Ma_model - Ma_full) / tolerance`` for the Mach number), so a
+residual of 1 is one band.  Groups are matched in priority order: residuals
+of priority 1 are weighted 10^6 above those of priority 2, and so on.  The
+bounds are the facility's limits (pressure, temperature and Mach ranges,
+largest model from its size limit and blockage), the largest dynamic pressure
+is an inequality held by a penalty and a final projection.
+
+* As many unknowns as solved groups and every residual zero: an exact match
+  (a root).
+* Fewer unknowns than groups: weighted least squares, with the mismatch of
+  every group reported.
+* A residual that cannot reach zero inside the limits: the nearest achievable
+  point, and the limits that bind.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
-from scipy.optimize import brentq
+from scipy.optimize import least_squares
 
-from .errors import InfeasibleError
-from .fluids.ideal_gas import AIR
 from .model import SimilitudeModel
-from .study import Study
+from .study import ATMOSPHERIC_PRESSURE, Band, Study
 
-#: Search brackets of the unknowns (wide on purpose; facility limits are applied after).
-_BRACKETS = {
-    "stagnation_pressure": (1.0, 1.0e10),   # Pa
-    "model_length": (1.0e-6, 1.0e4),         # m
-    "mach": (1.0e-4, 0.9999),                # -
-}
-_UNITS = {"stagnation_pressure": "Pa", "model_length": "m", "mach": "1"}
-_UNKNOWN_KEY = {"stagnation_pressure": "stagnation_pressure", "model_scale": "model_length",
-                "speed": "mach"}
+#: Weight between successive priority levels.
+PRIORITY_WEIGHT = 1.0e6
+#: A residual below this (in tolerance bands) counts as matched.
+MATCHED = 1.0e-6
+
+_UNITS = {"stagnation_pressure": "Pa", "stagnation_temperature": "K", "mach": "1",
+          "speed": "m/s", "static_pressure": "Pa", "temperature": "K", "model_length": "m",
+          "frequency": "Hz", "dynamic_pressure": "Pa"}
 
 
 @dataclass(frozen=True)
@@ -45,8 +53,13 @@ class Limit:
 
     @property
     def ok(self) -> bool:
-        tol = 1e-12 * max(abs(self.bound), 1.0)
+        tol = 1e-9 * max(abs(self.bound), 1e-300)
         return self.value <= self.bound + tol if self.side == "max" else self.value >= self.bound - tol
+
+    @property
+    def active(self) -> bool:
+        """The value sits on the bound."""
+        return abs(self.value - self.bound) <= 1e-7 * max(abs(self.bound), 1e-300)
 
 
 @dataclass(frozen=True)
@@ -56,28 +69,46 @@ class SetPoint:
     Attributes
     ----------
     nominal : dict
-        Nominal model inputs (:data:`simunc.model.NOMINAL_KEYS`), SI.
+        Nominal model inputs, SI.
     outputs : dict
         Model outputs at the nominal state, SI floats.
-    solve_for : str
-        The solved quantity.
+    solve_for : tuple of str
+        The solved model keys.
     required : float
-        Value of the solved quantity (SI) that would match the Reynolds number
-        exactly, ``nan`` when no value in the search range does.
+        Value (SI) of the first solved quantity that would match the groups
+        with the facility limits lifted; ``nan`` when none does.
     feasible : bool
-        True when every facility limit holds and the groups are matched.
+        True when every facility limit holds and every solved group is matched.
     limits : list of Limit
     messages : list of str
         Plain statements for the report (what binds, the shortfall).
+    method : str
+        ``"exact"`` or ``"least squares"``.
+    mismatch : dict
+        Per solved group, the residual in tolerance bands.
+    binding : list of str
+        Limits that stop a group from being matched.
+    required_values : dict
+        Every solved quantity with the limits lifted.
+    fluid : str
+        Name of the working fluid used.
+    alternatives : list of dict
+        With several candidate fluids: each one's outcome.
     """
 
     nominal: dict
     outputs: dict
-    solve_for: str
+    solve_for: tuple
     required: float
     feasible: bool
     limits: list = field(default_factory=list)
     messages: list = field(default_factory=list)
+    method: str = "exact"
+    mismatch: dict = field(default_factory=dict)
+    binding: list = field(default_factory=list)
+    required_values: dict = field(default_factory=dict)
+    fluid: str = ""
+    alternatives: list = field(default_factory=list)
 
     @property
     def reynolds_shortfall(self) -> float:
@@ -86,14 +117,15 @@ class SetPoint:
 
     @property
     def mach_shortfall(self) -> float:
-        return self.outputs["mach_difference"]
+        return self.outputs.get("mach_difference", math.nan)
 
 
-def build_model(study: Study) -> SimilitudeModel:
-    """The similitude model configured for a study."""
-    return SimilitudeModel(gas=study.facility.gas, full_scale_gas=AIR,
+def build_model(study: Study, fluid=None) -> SimilitudeModel:
+    """The similitude model configured for a study (optionally with another candidate fluid)."""
+    return SimilitudeModel(fluid=fluid or study.facility.gas, full_scale_fluid=study.full_scale.fluid,
                            mach_from=study.facility.mach_from,
-                           full_scale_given=study.full_scale.given)
+                           full_scale_given=study.full_scale.given,
+                           custom_groups=study.custom_groups)
 
 
 def _q(value: float, unit: str) -> str:
@@ -105,113 +137,243 @@ def _scalar(out: dict) -> dict:
     return {k: float(np.asarray(v)) for k, v in out.items()}
 
 
-def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
-    """Solve the nominal set point of a study.
+def _largest_model(study: Study) -> float | None:
+    """Largest model reference length from the size limit and the blockage limit [m]."""
+    fac, fs = study.facility, study.full_scale
+    limits = [fac.max_model_reference_length] if fac.max_model_reference_length else []
+    if fac.max_blockage and fac.test_section_area and fs.frontal_area:
+        limits.append(fs.reference_length * math.sqrt(fac.max_blockage * fac.test_section_area
+                                                      / fs.frontal_area))
+    return min(limits) if limits else None
 
-    Raises
-    ------
-    InfeasibleError
-        When no value of the unknown in its (wide) search bracket matches the
-        Reynolds number and no nearest point can be stated.
-    """
-    model = model or build_model(study)
-    fs, fac = study.full_scale, study.facility
-    nominal = {
-        "stagnation_pressure": fac.stagnation_pressure,
-        "stagnation_temperature": fac.stagnation_temperature,
-        "mach": fac.mach,
-        "model_length": (study.model_reference_length if study.model_reference_length is not None
-                         else (study.model_scale * fs.reference_length
-                               if study.model_scale is not None else None)),
-        "sutherland": fac.gas.sutherland,
-        "full_scale_static_pressure": fs.static_pressure,
-        "full_scale_static_temperature": fs.static_temperature,
-        "full_scale_speed_or_mach": fs.value,
-        "full_scale_length": fs.reference_length,
-    }
-    messages: list[str] = []
-    limits: list[Limit] = []
-    mach_lo, mach_hi = fac.mach_range
-    if study.band("mach") is not None:
-        target = float(model(dict(nominal, mach=0.5, stagnation_pressure=1e5, model_length=1.0))[
-            "mach_full_scale"])
-        nominal["mach"] = min(max(target, mach_lo), mach_hi)
-        if nominal["mach"] != target:
-            messages.append(
-                f"The full-scale Mach number {target:.4f} is outside the facility's Mach range "
-                f"[{mach_lo:g}, {mach_hi:g}]; the nearest achievable Mach number "
-                f"{nominal['mach']:.4f} is used.")
 
-    key = _UNKNOWN_KEY[study.solve_for]
-    lo, hi = _BRACKETS[key]
-    log = key != "mach"
-
-    def residual(v: float) -> float:
-        x = math.exp(v) if log else v
-        return float(model(dict(nominal, **{key: x}))["reynolds_ratio"]) - 1.0
-
-    a, b = (math.log(lo), math.log(hi)) if log else (lo, hi)
-    fa, fb = residual(a), residual(b)
+def bounds(study: Study, key: str) -> tuple[float, float]:
+    """Facility bounds of a model key (SI); wide where the facility states none."""
+    fac, fs = study.facility, study.full_scale
     if key == "stagnation_pressure":
-        bounds = [("min", fac.stagnation_pressure_range[0]), ("max", fac.stagnation_pressure_range[1])]
-    elif key == "model_length":
-        bounds = [("max", fac.max_model_reference_length)] if fac.max_model_reference_length else []
+        return fac.stagnation_pressure_range
+    if key == "stagnation_temperature":
+        return fac.stagnation_temperature_range or (1.0, 1.0e4)
+    if key == "mach":
+        lo, hi = fac.mach_range
+        return max(lo, 1e-3), min(hi, 0.999)
+    if key == "speed":
+        return fac.speed_range or (1e-3, 1e3)
+    if key == "static_pressure":
+        return fac.static_pressure_range or (1.0, 1.0e9)
+    if key == "temperature":
+        return fac.temperature_range or (274.0, 313.0)
+    if key == "model_length":
+        return 1e-4 * fs.reference_length, _largest_model(study) or 10.0 * fs.reference_length
+    if key == "frequency":
+        return 1e-6, 1e6
+    raise KeyError(key)
+
+
+def nominal_state(study: Study, fluid=None) -> dict:
+    """Nominal model inputs from the study (unknowns left as ``None``)."""
+    fs, fac = study.full_scale, study.facility
+    fluid = fluid or fac.gas
+    length = (study.model_reference_length if study.model_reference_length is not None
+              else (study.model_scale * fs.reference_length if study.model_scale is not None
+                    else None))
+    x = {"model_length": length, "full_scale_static_pressure": fs.static_pressure,
+         "full_scale_static_temperature": fs.static_temperature,
+         "full_scale_speed_or_mach": fs.value, "full_scale_length": fs.reference_length}
+    if fac.kind == "gas":
+        x.update(stagnation_pressure=fac.stagnation_pressure,
+                 stagnation_temperature=fac.stagnation_temperature, mach=fac.mach)
     else:
-        bounds = [("min", mach_lo), ("max", mach_hi)]
-    if fa * fb > 0.0:
-        if key != "mach":
-            raise InfeasibleError(f"no {study.solve_for.replace('_', ' ')} between {lo:g} and "
-                                  f"{hi:g} (SI) matches the Reynolds number")
-        # Re(Ma) is monotonic: every subsonic Mach number falls short (or overshoots).
-        required = math.nan
-        value = mach_hi if fb < 0.0 else max(mach_lo, lo)
-        messages.append(
-            "No subsonic test-section Mach number matches the Reynolds number; the facility's "
-            f"{'highest' if fb < 0.0 else 'lowest'} Mach number {value:g} is used.")
+        x.update(speed=fac.speed, temperature=fac.temperature,
+                 static_pressure=fac.static_pressure if fac.static_pressure is not None
+                 else ATMOSPHERIC_PRESSURE)
+    if fs.frequency is not None:
+        x["full_scale_frequency"] = fs.frequency
+        x["frequency"] = study.model_frequency
+    for name in getattr(fluid, "parameters", ()):
+        x[name] = getattr(fluid, name)
+    return x
+
+
+def _band_residual(b: Band, out: dict) -> float:
+    """Mismatch of a group in tolerance bands: ln(ratio) / tol or difference / tol."""
+    y = float(np.asarray(out[b.output]))
+    if b.is_difference:
+        return (y - b.centre) / b.tolerance
+    return math.log(y) / b.tolerance if y > 0.0 else math.inf
+
+
+def _residuals(model: SimilitudeModel, bands: list[Band], state: dict, q_max: float | None):
+    out = model(state)
+    levels = sorted({b.priority for b in bands})
+    r = [PRIORITY_WEIGHT ** (len(levels) - 1 - levels.index(b.priority)) * _band_residual(b, out)
+         for b in bands]
+    if q_max is not None:
+        q = float(np.asarray(out["dynamic_pressure"]))
+        r.append(PRIORITY_WEIGHT ** len(levels) * 1e3 * max(0.0, math.log(q / q_max)))
+    r = np.array(r)
+    return np.where(np.isfinite(r), r, 1e9), out
+
+
+def _solve_one(model: SimilitudeModel, base: dict, keys: list[str],
+               box: dict[str, tuple[float, float]], bands: list[Band], q_max: float | None):
+    """Least squares over ``keys`` inside ``box``; returns the state and outputs."""
+    logs = [k not in ("mach", "temperature") for k in keys]
+    lo = np.array([math.log(box[k][0]) if g else box[k][0] for k, g in zip(keys, logs)])
+    hi = np.array([math.log(box[k][1]) if g else box[k][1] for k, g in zip(keys, logs)])
+
+    def state_of(z):
+        s = dict(base)
+        for k, g, v in zip(keys, logs, z):
+            s[k] = math.exp(v) if g else float(v)
+        return s
+
+    def fun(z):
+        return _residuals(model, bands, state_of(z), q_max)[0]
+
+    best = None
+    for frac in (0.5, 0.2, 0.8):
+        z0 = lo + frac * (hi - lo)
+        sol = least_squares(fun, z0, bounds=(lo, hi), method="trf", x_scale="jac",
+                            xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=2000)
+        if best is None or sol.cost < best.cost:
+            best = sol
+        if best.cost < 1e-20:
+            break
+    state = state_of(best.x)
+    for k in keys:  # undo the round trip through the logarithm on an active bound
+        for b in box[k]:
+            if abs(state[k] - b) <= 1e-12 * abs(b):
+                state[k] = b
+    if q_max is not None:  # project onto q <= q_max (q grows with the pressure level)
+        pkey = "stagnation_pressure" if model.kind == "gas" else None
+        for _ in range(5):
+            q = float(np.asarray(model(state)["dynamic_pressure"]))
+            if q <= q_max * (1 + 1e-12) or pkey is None or pkey not in keys:
+                break
+            state[pkey] *= q_max / q
+    return state, _scalar(model(state))
+
+
+def _limits(study: Study, state: dict, out: dict) -> list[Limit]:
+    fac = study.facility
+    lim = []
+
+    def add(q, rng, value):
+        if rng:
+            lim.append(Limit(q, "min", rng[0], value, _UNITS[q]))
+            lim.append(Limit(q, "max", rng[1], value, _UNITS[q]))
+
+    if fac.kind == "gas":
+        add("stagnation_pressure", fac.stagnation_pressure_range, state["stagnation_pressure"])
+        add("stagnation_temperature", fac.stagnation_temperature_range,
+            state["stagnation_temperature"])
+        add("mach", fac.mach_range, state["mach"])
     else:
-        root = brentq(residual, a, b, xtol=1e-14, rtol=1e-13, maxiter=200)
-        required = math.exp(root) if log else root
-        value = required
+        add("speed", fac.speed_range, state["speed"])
+        add("static_pressure", fac.static_pressure_range, state["static_pressure"])
+        add("temperature", fac.temperature_range, state["temperature"])
+    big = _largest_model(study)
+    if big:
+        lim.append(Limit("model_length", "max", big, state["model_length"], "m"))
+    if fac.max_dynamic_pressure:
+        lim.append(Limit("dynamic_pressure", "max", fac.max_dynamic_pressure,
+                         out["dynamic_pressure"], "Pa"))
+    return lim
 
-    # Facility limits on the solved quantity: clamp to the nearest achievable value.
-    clamped = value
-    for side, bound in bounds:
-        limits.append(Limit(key, side, bound, value, _UNITS[key]))
-        clamped = min(clamped, bound) if side == "max" else max(clamped, bound)
-    nominal[key] = clamped
 
-    # Limits on the given quantities (reported, not changed).
-    if key != "stagnation_pressure":
-        for side, bound in zip(("min", "max"), fac.stagnation_pressure_range):
-            limits.append(Limit("stagnation_pressure", side, bound, nominal["stagnation_pressure"], "Pa"))
-    if key != "model_length" and fac.max_model_reference_length:
-        limits.append(Limit("model_length", "max", fac.max_model_reference_length,
-                            nominal["model_length"], "m"))
-    if key != "mach":
-        limits.append(Limit("mach", "min", mach_lo, nominal["mach"], "1"))
-        limits.append(Limit("mach", "max", mach_hi, nominal["mach"], "1"))
-
-    outputs = _scalar(model(nominal))
+def _describe(sp_state, out, keys, bands, limits, required) -> tuple:
+    msgs = []
+    mismatch = {}
+    for b in bands:
+        mismatch[b.group] = _band_residual(b, out)
+    matched = all(abs(v) < MATCHED for v in mismatch.values())
     for lim in limits:
         if not lim.ok:
             word = "above the facility maximum" if lim.side == "max" else "below the facility minimum"
-            what = "required" if lim.quantity == key else "given"
-            messages.append(f"The {what} {lim.quantity.replace('_', ' ')} {_q(lim.value, lim.unit)} is "
-                            f"{word} {_q(lim.bound, lim.unit)}.")
-    if clamped != value or math.isnan(required):
-        messages.append(f"Nearest achievable set point: {key.replace('_', ' ')} = "
-                        f"{_q(clamped, _UNITS[key])}, "
-                        f"giving Re_model / Re_full = {outputs['reynolds_ratio']:.4f} "
-                        f"(Reynolds shortfall {100 * (outputs['reynolds_ratio'] - 1):+.2f} %).")
-    matched = abs(outputs["reynolds_ratio"] - 1.0) < 1e-9
-    if study.band("mach") is not None:
-        matched = matched and abs(outputs["mach_difference"]) < 1e-9
-    feasible = matched and all(lim.ok for lim in limits)
-    if study.band("mach") is not None and key == "mach":
-        messages.append("With match.solve_for = 'speed' the Mach number follows from the Reynolds "
-                        "match; the Mach band is checked, not imposed: Ma_model - Ma_full = "
-                        f"{outputs['mach_difference']:+.4f}.")
-    if study.band("mach") is None:
-        messages.append(f"The Mach number is not matched: Ma_model - Ma_full = "
-                        f"{outputs['mach_difference']:+.4f}.")
-    return SetPoint(nominal, outputs, study.solve_for, required, feasible, limits, messages)
+            what = "solved" if lim.quantity in keys else "given"
+            msgs.append(f"The {what} {lim.quantity.replace('_', ' ')} {_q(lim.value, lim.unit)} is "
+                        f"{word} {_q(lim.bound, lim.unit)}.")
+    binding = [] if matched else [f"{lim.quantity} {lim.side} {_q(lim.bound, lim.unit)}"
+                                  for lim in limits if lim.active and lim.ok]
+    if not matched:
+        needs = ", ".join(f"{k.replace('_', ' ')} {_q(v, _UNITS.get(k, ''))}"
+                          for k, v in required.items() if math.isfinite(v))
+        if needs:
+            msgs.append(f"Matching every solved group would need {needs}.")
+        parts = []
+        for b in bands:
+            y = out[b.output]
+            parts.append(f"{b.output} = {y:+.4f}" if b.is_difference else
+                         f"{b.output} = {y:.4f} ({100 * (y - 1):+.2f} %)")
+        where = ", ".join(f"{k.replace('_', ' ')} = {_q(sp_state[k], _UNITS.get(k, ''))}"
+                          for k in keys)
+        msgs.append(f"Nearest achievable set point{' (' + where + ')' if where else ''}: "
+                    + "; ".join(parts) + "."
+                    + (f" Binding limit{'s' if len(binding) > 1 else ''}: {', '.join(binding)}."
+                       if binding else ""))
+    return msgs, mismatch, binding, matched
+
+
+def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
+    """Solve the nominal set point of a study.
+
+    With several candidate fluids (``match.solve_for`` includes ``gas``) each is
+    solved and the best kept: feasible first, then the smallest mismatch.
+
+    """
+    candidates = [model.fluid] if model is not None else list(study.facility.fluids)
+    if "fluid" not in study.unknowns:
+        candidates = candidates[:1]
+    results = [_solve_fluid(study, model if model is not None and f is model.fluid
+                            else build_model(study, f)) for f in candidates]
+    best = min(results, key=lambda sp: (not sp.feasible, sum(v * v for v in sp.mismatch.values())))
+    if len(results) > 1:
+        alts = [{"fluid": sp.fluid, "feasible": sp.feasible,
+                 "mismatch": dict(sp.mismatch)} for sp in results]
+        best = replace(best, alternatives=alts, messages=best.messages + [
+            "Working fluid chosen among " + ", ".join(a["fluid"] for a in alts) + f": {best.fluid}."])
+    return best
+
+
+def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
+    base = nominal_state(study, model.fluid)
+    keys = [k for k in study.unknowns if k != "fluid"]
+    bands = [b for b in study.bands if b.solve]
+    q_max = study.facility.max_dynamic_pressure
+    box = {k: bounds(study, k) for k in keys}
+    for k in keys:
+        base[k] = None
+    state, out = _solve_one(model, base, keys, box, bands, q_max)
+
+    # The same problem with the facility limits lifted: what a match would need.
+    required = {}
+    if keys:
+        wide = {k: (box[k][0] / 100.0, box[k][1] * 100.0) if k not in ("mach", "temperature")
+                else bounds(replace(study, facility=replace(study.facility, mach_range=(0.0, 1.0)))
+                            if k == "mach" else study, k) for k in keys}
+        try:
+            free, free_out = _solve_one(model, base, keys, wide, bands, None)
+            ok = all(abs(_band_residual(b, free_out)) < MATCHED for b in bands)
+            required = {k: free[k] if ok else math.nan for k in keys}
+        except (ValueError, FloatingPointError):
+            required = {k: math.nan for k in keys}
+
+    limits = _limits(study, state, out)
+    msgs, mismatch, binding, matched = _describe(state, out, keys, bands, limits, required)
+    reason = model.fluid.check_state(out["static_pressure"], out["static_temperature"])
+    if reason:
+        msgs.append(f"The facility state is outside the {model.fluid.name} model: {reason}.")
+    feasible = matched and all(lim.ok for lim in limits) and not reason
+    for b in study.bands:
+        if not b.solve:
+            y = out[b.output]
+            msgs.append(f"{b.group} is checked, not imposed: {b.output} = "
+                        + (f"{y:+.4f}." if b.is_difference else f"{y:.4f}."))
+    if study.band("mach") is None and model.kind == "gas":
+        msgs.append(f"The Mach number is not matched: Ma_model - Ma_full = "
+                    f"{out['mach_model'] - out['mach_full_scale']:+.4f}.")
+    method = "exact" if len(keys) == len(bands) else "least squares"
+    first = keys[0] if keys else ""
+    return SetPoint(state, out, tuple(keys), required.get(first, math.nan), feasible, limits, msgs,
+                    method, mismatch, binding, required, model.fluid.name)

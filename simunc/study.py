@@ -8,7 +8,6 @@ reference of keys is in the README ("Study-file reference").
 
 from __future__ import annotations
 
-import difflib
 import hashlib
 import math
 import tomllib
@@ -19,139 +18,49 @@ from typing import Any
 from . import atmosphere
 from .errors import StudyError
 from .fluids import AIR, FLUIDS, Fluid
-from .model import TARGETS
-from .units import Parsed, parse, to_si
+from .model import GRAVITY, GROUPS, QUANTITIES, TARGETS, CustomGroup, output_key
+from .study_table import Table, check_finite
+from .units import Parsed, parse, ureg
 
-SOLVE_FOR = ("stagnation_pressure", "model_scale", "speed")
-GROUPS = ("reynolds", "mach")
 DISTRIBUTIONS = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
                  "uniform": "rectangular", "triangular": "triangular"}
 MACH_FROM = ("pressure_ratio", "indication")
+ATMOSPHERIC_PRESSURE = 101_325.0  # Pa, standard atmosphere (ISO 2533)
 
-_ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain", "run")
-_FULL_SCALE_KEYS = ("altitude", "pressure_altitude", "temperature_offset", "static_pressure", "static_temperature",
-                    "mach", "speed", "reference_length")
-_FACILITY_KEYS = ("name", "gas", "stagnation_temperature", "stagnation_pressure",
-                  "stagnation_pressure_range", "max_model_reference_length", "mach", "mach_range",
-                  "mach_from")
-_MODEL_KEYS = ("scale", "reference_length")
-_MATCH_KEYS = ("solve_for",) + GROUPS
-_BAND_KEYS = ("tolerance",)
+#: ``match.solve_for`` names -> model keys, by facility kind.
+SOLVE_NAMES = {
+    "gas": {"stagnation_pressure": "stagnation_pressure",
+            "stagnation_temperature": "stagnation_temperature", "mach": "mach", "speed": "mach",
+            "model_scale": "model_length", "frequency": "frequency", "gas": "fluid",
+            "fluid": "fluid"},
+    "liquid": {"speed": "speed", "static_pressure": "static_pressure", "temperature": "temperature",
+               "model_scale": "model_length", "frequency": "frequency", "fluid": "fluid"},
+}
+#: Default priority of a matched group (lower is matched first).
+DEFAULT_PRIORITY = {"mach": 1, "froude": 1}
+
+_ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
+              "run", "dimensional_analysis")
+_FULL_SCALE_KEYS = ("fluid", "altitude", "pressure_altitude", "temperature_offset",
+                    "static_pressure", "static_temperature", "depth", "mach", "speed",
+                    "reference_length", "frequency", "frontal_area")
+_FACILITY_KEYS = ("name", "gas", "fluid", "stagnation_temperature", "stagnation_temperature_range",
+                  "stagnation_pressure", "stagnation_pressure_range", "mach", "mach_range",
+                  "mach_from", "speed", "speed_range", "static_pressure", "static_pressure_range",
+                  "temperature", "temperature_range", "max_model_reference_length",
+                  "test_section_area", "max_blockage", "max_dynamic_pressure")
+_MODEL_KEYS = ("scale", "reference_length", "frequency")
+_BAND_KEYS = ("tolerance", "priority", "solve")
+_CUSTOM_KEYS = ("powers", "tolerance", "priority", "solve")
 _INPUT_KEYS = ("name", "perturbs", "distribution", "standard_uncertainty", "expanded_uncertainty",
                "coverage_factor", "half_width", "note")
 _RUN_KEYS = ("trials", "seed", "coverage_probability", "sobol_base_samples")
-
-
-class _Table:
-    """One TOML table with its dotted prefix; rejects unknown keys with a suggestion."""
-
-    def __init__(self, data: Any, prefix: str, allowed: tuple[str, ...]) -> None:
-        if not isinstance(data, dict):
-            raise StudyError(prefix, data, "a table")
-        self.data = data
-        self.prefix = prefix
-        for key in data:
-            if key not in allowed:
-                close = difflib.get_close_matches(key, allowed, n=1, cutoff=0.5)
-                hint = f"did you mean '{self.key(close[0])}'?" if close else (
-                    "valid keys: " + ", ".join(allowed))
-                raise StudyError(self.key(key), "an unknown key", "one of the documented keys", hint)
-
-    def key(self, name: str) -> str:
-        return f"{self.prefix}.{name}" if self.prefix else name
-
-    def has(self, name: str) -> bool:
-        return name in self.data
-
-    def require(self, name: str, why: str = "") -> Any:
-        if name not in self.data:
-            raise StudyError(self.key(name), "nothing (the key is missing)", "a value" + (
-                f" ({why})" if why else ""))
-        return self.data[name]
-
-    def quantity(self, name: str, dimension: str, *, positive: bool = True,
-                 default: float | None = None, why: str = "") -> float:
-        if name not in self.data and default is not None:
-            return default
-        raw = self.require(name, why)
-        value = to_si(self.key(name), raw, dimension)
-        _check_finite(self.key(name), raw, value)
-        if positive and value <= 0.0:
-            raise StudyError(self.key(name), raw, f"a {dimension.replace('_', ' ')} greater than zero")
-        return value
-
-    def number(self, name: str, *, default: float | None = None, low: float = -math.inf,
-               high: float = math.inf, low_open: bool = False, high_open: bool = False,
-               what: str = "a number") -> float:
-        if name not in self.data and default is not None:
-            return default
-        raw = self.require(name)
-        value = parse(self.key(name), raw, "dimensionless").value
-        _check_finite(self.key(name), raw, value)
-        bad_low = value <= low if low_open else value < low
-        bad_high = value >= high if high_open else value > high
-        if bad_low or bad_high:
-            raise StudyError(self.key(name), raw, what)
-        return value
-
-    def integer(self, name: str, default: int, low: int) -> int:
-        raw = self.data.get(name, default)
-        if isinstance(raw, bool) or not isinstance(raw, int) or raw < low:
-            raise StudyError(self.key(name), raw, f"a whole number >= {low}")
-        return raw
-
-    def text(self, name: str, default: str | None = None) -> str:
-        raw = self.data.get(name, default)
-        if raw is None:
-            raw = self.require(name)
-        if not isinstance(raw, str):
-            raise StudyError(self.key(name), raw, "a string")
-        return raw
-
-    def choice(self, name: str, options, default: str | None = None) -> str:
-        raw = self.text(name, default)
-        if raw not in options:
-            close = difflib.get_close_matches(raw, list(options), n=1, cutoff=0.5)
-            raise StudyError(self.key(name), repr(raw), "one of " + ", ".join(repr(o) for o in options),
-                             f"did you mean {close[0]!r}?" if close else "")
-        return options[raw] if isinstance(options, dict) else raw
-
-    def pair(self, name: str, dimension: str) -> tuple[float, float] | None:
-        if name not in self.data:
-            return None
-        raw = self.data[name]
-        if not isinstance(raw, list) or len(raw) != 2:
-            raise StudyError(self.key(name), raw, f"a list of two values [low, high] of {dimension}")
-        lo, hi = (to_si(f"{self.key(name)}[{i}]", v, dimension) for i, v in enumerate(raw))
-        for i, v in enumerate((lo, hi)):
-            _check_finite(f"{self.key(name)}[{i}]", raw[i], v)
-        if dimension != "dimensionless" and lo <= 0.0:
-            raise StudyError(f"{self.key(name)}[0]", raw[0], "a value greater than zero")
-        if not lo < hi:
-            raise StudyError(self.key(name), raw, "low < high")
-        return lo, hi
-
-    def exclusive(self, names: tuple[str, ...], required: bool = True) -> str | None:
-        present = [n for n in names if n in self.data]
-        if len(present) > 1:
-            raise StudyError(self.key(present[1]), "together with " + self.key(present[0]),
-                             "only one of " + ", ".join(self.key(n) for n in names))
-        if not present:
-            if required:
-                raise StudyError(self.key(names[0]), "nothing (the key is missing)",
-                                 "one of " + ", ".join(self.key(n) for n in names))
-            return None
-        return present[0]
-
-
-def _check_finite(key: str, raw: Any, value: float) -> None:
-    if not math.isfinite(value):
-        raise StudyError(key, raw, "a finite value")
+_DIM_KEYS = ("variables", "repeating")
 
 
 @dataclass(frozen=True)
 class FullScale:
-    """Full-scale (flight) condition in SI."""
+    """Full-scale condition in SI."""
 
     static_pressure: float
     static_temperature: float
@@ -161,42 +70,70 @@ class FullScale:
     altitude: float | None = None
     temperature_offset: float = 0.0
     mach: float = 0.0  # nominal full-scale Mach number (= value when given is "mach")
+    fluid: Fluid = AIR
+    frequency: float | None = None
+    frontal_area: float | None = None
+    depth: float | None = None
 
 
 @dataclass(frozen=True)
 class Facility:
-    """Facility description in SI."""
+    """Facility description in SI (``None``: not given)."""
 
     name: str
-    gas: Fluid
-    stagnation_temperature: float
-    stagnation_pressure_range: tuple[float, float]
-    stagnation_pressure: float | None
-    max_model_reference_length: float | None
-    mach: float | None
-    mach_range: tuple[float, float]
-    mach_from: str
+    fluids: tuple
+    kind: str  # "gas" or "liquid"
+    stagnation_temperature: float | None = None
+    stagnation_temperature_range: tuple | None = None
+    stagnation_pressure: float | None = None
+    stagnation_pressure_range: tuple | None = None
+    mach: float | None = None
+    mach_range: tuple = (0.0, 1.0)
+    mach_from: str = "pressure_ratio"
+    speed: float | None = None
+    speed_range: tuple | None = None
+    static_pressure: float | None = None
+    static_pressure_range: tuple | None = None
+    temperature: float | None = None
+    temperature_range: tuple | None = None
+    max_model_reference_length: float | None = None
+    test_section_area: float | None = None
+    max_blockage: float | None = None
+    max_dynamic_pressure: float | None = None
+
+    @property
+    def gas(self) -> Fluid:
+        """The (first) working fluid."""
+        return self.fluids[0]
 
 
 @dataclass(frozen=True)
 class Band:
     """Tolerance band of a matched group.
 
-    For ``reynolds`` the band is ``|Re_model / Re_full - 1| <= tolerance``; for
-    ``mach`` it is ``|Ma_model - Ma_full| <= tolerance``.
+    For a ``ratio`` group the band is ``|G_model / G_full - 1| <= tolerance``;
+    for the Mach number (a ``difference``) it is ``|Ma_model - Ma_full| <=
+    tolerance``.  ``priority`` orders the matching (1 first); ``solve = False``
+    makes the band a check only.
     """
 
     group: str
     tolerance: float
     text: str
+    priority: int = 2
+    solve: bool = True
 
     @property
     def output(self) -> str:
-        return "reynolds_ratio" if self.group == "reynolds" else "mach_difference"
+        return output_key(self.group)
+
+    @property
+    def is_difference(self) -> bool:
+        return self.output.endswith("_difference")
 
     @property
     def centre(self) -> float:
-        return 1.0 if self.group == "reynolds" else 0.0
+        return 0.0 if self.is_difference else 1.0
 
 
 @dataclass(frozen=True)
@@ -223,6 +160,14 @@ class RunSettings:
 
 
 @dataclass(frozen=True)
+class DimensionalAnalysis:
+    """Variables (name -> unit text) for a Buckingham Pi analysis, and repeating ones."""
+
+    variables: dict
+    repeating: tuple | None
+
+
+@dataclass(frozen=True)
 class Study:
     """A validated study, all values in SI."""
 
@@ -232,10 +177,14 @@ class Study:
     facility: Facility
     model_scale: float | None
     model_reference_length: float | None
-    solve_for: str
-    bands: tuple[Band, ...]
-    inputs: tuple[InputSpec, ...]
+    solve_for: tuple
+    unknowns: tuple
+    bands: tuple
+    inputs: tuple
     run: RunSettings
+    model_frequency: float | None = None
+    custom_groups: tuple = ()
+    dimensional_analysis: DimensionalAnalysis | None = None
     path: str = ""
     sha256: str = ""
     raw: dict = field(default_factory=dict, repr=False, compare=False)
@@ -243,41 +192,76 @@ class Study:
     def band(self, group: str) -> Band | None:
         return next((b for b in self.bands if b.group == group), None)
 
+    @property
+    def kind(self) -> str:
+        return self.facility.kind
 
-def _full_scale(t: _Table) -> FullScale:
-    kind = t.exclusive(("altitude", "pressure_altitude", "static_pressure"))
-    z, dt = None, 0.0
-    if kind in ("altitude", "pressure_altitude"):
-        lo, hi = atmosphere.ALTITUDE_RANGE
-        h = t.quantity(kind, "length", positive=False)
-        if kind == "altitude":
-            z = h
+
+def _fluid(t: Table, key: str, default: str | None = None) -> Fluid:
+    return t.choice(key, dict(FLUIDS), default=default)
+
+
+def _full_scale(t: Table) -> FullScale:
+    fluid = _fluid(t, "fluid", AIR.name)
+    z, dt, depth = None, 0.0, None
+    if fluid.kind == "liquid":
+        for k in ("altitude", "pressure_altitude", "temperature_offset", "mach"):
+            if t.has(k):
+                raise StudyError(t.key(k), t.data[k], f"no {k} for a full scale in {fluid.name} "
+                                 "(give static_temperature, depth or static_pressure, and speed)")
+        kind = t.exclusive(("depth", "static_pressure"), required=False)
+        if kind == "depth":
+            depth = t.quantity("depth", "length", positive=False)
+            if depth < 0.0:
+                raise StudyError(t.key("depth"), t.data["depth"], "a depth of 0 or more")
+        temp = t.quantity("static_temperature", "temperature", why="the water temperature")
+        if kind == "static_pressure":
+            pres = t.quantity("static_pressure", "pressure")
         else:
-            lo, hi = (float(atmosphere.geopotential_altitude(v)) for v in (lo, hi))
-            z = float(atmosphere.geometric_altitude(h))
-        if not lo <= h <= hi:
-            raise StudyError(t.key(kind), t.data[kind],
-                             f"an altitude from {lo:.6g} m to {hi:.6g} m "
-                             f"({'geometric' if kind == 'altitude' else 'geopotential'})")
-        if t.exclusive(("temperature_offset", "static_temperature"), required=False) == \
-                "static_temperature":
-            pres = float(atmosphere.standard_state(z)[1])
-            temp = t.quantity("static_temperature", "temperature")
-            dt = temp - float(atmosphere.standard_state(z)[0])
-        else:
-            dt = t.quantity("temperature_offset", "temperature_difference", positive=False, default=0.0)
-            temp, pres = (float(v) for v in atmosphere.standard_state(z, dt))
-            if temp <= 0.0:
-                raise StudyError(t.key("temperature_offset"), t.data["temperature_offset"],
-                                 "an offset that leaves the temperature above 0 K")
+            rho = float(fluid.density(ATMOSPHERIC_PRESSURE, temp))
+            pres = ATMOSPHERIC_PRESSURE + rho * GRAVITY * (depth or 0.0)
     else:
-        if t.has("temperature_offset"):
-            raise StudyError(t.key("temperature_offset"), "together with full_scale.static_pressure",
-                             "a temperature offset only with full_scale.altitude or "
-                             "full_scale.pressure_altitude")
-        pres = t.quantity("static_pressure", "pressure")
-        temp = t.quantity("static_temperature", "temperature",
-                          why="needed with full_scale.static_pressure")
+        kind = t.exclusive(("altitude", "pressure_altitude", "static_pressure"))
+        if t.has("depth"):
+            raise StudyError(t.key("depth"), t.data["depth"], "no depth for a full scale in a gas")
+        if kind in ("altitude", "pressure_altitude"):
+            lo, hi = atmosphere.ALTITUDE_RANGE
+            h = t.quantity(kind, "length", positive=False)
+            if kind == "altitude":
+                z = h
+            else:
+                lo, hi = (float(atmosphere.geopotential_altitude(v)) for v in (lo, hi))
+                z = float(atmosphere.geometric_altitude(h))
+            if not lo <= h <= hi:
+                raise StudyError(t.key(kind), t.data[kind],
+                                 f"an altitude from {lo:.6g} m to {hi:.6g} m "
+                                 f"({'geometric' if kind == 'altitude' else 'geopotential'})")
+            if t.exclusive(("temperature_offset", "static_temperature"), required=False) == \
+                    "static_temperature":
+                pres = float(atmosphere.standard_state(z)[1])
+                temp = t.quantity("static_temperature", "temperature")
+                dt = temp - float(atmosphere.standard_state(z)[0])
+            else:
+                dt = t.quantity("temperature_offset", "temperature_difference", positive=False,
+                                default=0.0)
+                temp, pres = (float(v) for v in atmosphere.standard_state(z, dt))
+                if temp <= 0.0:
+                    raise StudyError(t.key("temperature_offset"), t.data["temperature_offset"],
+                                     "an offset that leaves the temperature above 0 K")
+        else:
+            if t.has("temperature_offset"):
+                raise StudyError(t.key("temperature_offset"),
+                                 "together with full_scale.static_pressure",
+                                 "a temperature offset only with full_scale.altitude or "
+                                 "full_scale.pressure_altitude")
+            pres = t.quantity("static_pressure", "pressure")
+            temp = t.quantity("static_temperature", "temperature",
+                              why="needed with full_scale.static_pressure")
+    reason = fluid.check_state(pres, temp)
+    if reason:
+        raise StudyError(t.key("static_temperature") if t.has("static_temperature") else t.prefix,
+                         f"{pres:.6g} Pa, {temp:.6g} K", f"a state inside the {fluid.name} model "
+                         f"({reason})")
     given = t.exclusive(("mach", "speed"))
     if given == "mach":
         value = m = t.number("mach", low=0.0, high=1.0, low_open=True, high_open=True,
@@ -285,16 +269,53 @@ def _full_scale(t: _Table) -> FullScale:
                                   "are implemented)")
     else:
         value = t.quantity("speed", "speed")
-        m = value / float(AIR.speed_of_sound(pres, temp))
+        m = value / float(fluid.speed_of_sound(pres, temp))
         if m >= 1.0:
             raise StudyError(t.key("speed"), t.data["speed"],
                              f"a subsonic speed (this gives Mach {m:.3f}; only subsonic relations "
                              "are implemented)")
-    return FullScale(pres, temp, given, value, t.quantity("reference_length", "length"), z, dt, m)
+    return FullScale(pres, temp, given, value, t.quantity("reference_length", "length"), z, dt, m,
+                     fluid, t.optional_quantity("frequency", "frequency"),
+                     t.optional_quantity("frontal_area", "area"), depth)
 
 
-def _facility(t: _Table) -> Facility:
-    gas = t.choice("gas", dict(FLUIDS), default=AIR.name)
+_GAS_ONLY = ("stagnation_temperature", "stagnation_temperature_range", "stagnation_pressure",
+             "stagnation_pressure_range", "mach", "mach_range", "mach_from")
+_LIQUID_ONLY = ("speed", "speed_range", "static_pressure", "static_pressure_range", "temperature",
+                "temperature_range")
+
+
+def _facility(t: Table) -> Facility:
+    key = t.exclusive(("fluid", "gas"), required=False) or "gas"
+    names = t.names(key, (AIR.name,))
+    if not names:
+        raise StudyError(t.key(key), [], "at least one fluid name")
+    fluids = tuple(Table({key: n}, t.prefix, (key,)).choice(key, dict(FLUIDS)) for n in names)
+    kinds = {f.kind for f in fluids}
+    if len(kinds) > 1:
+        raise StudyError(t.key(key), names, "fluids of one kind (all gases or all liquids)")
+    kind = kinds.pop()
+    for k in (_LIQUID_ONLY if kind == "gas" else _GAS_ONLY):
+        if t.has(k):
+            raise StudyError(t.key(k), t.data[k], f"no {k} for a {kind} facility ({names[0]})")
+    common = dict(
+        name=t.text("name", "facility"), fluids=fluids, kind=kind,
+        max_model_reference_length=t.optional_quantity("max_model_reference_length", "length"),
+        test_section_area=t.optional_quantity("test_section_area", "area"),
+        max_blockage=(t.number("max_blockage", low=0.0, high=1.0, low_open=True,
+                               what="a blockage fraction above 0 and at most 1, e.g. '1 %'")
+                      if t.has("max_blockage") else None),
+        max_dynamic_pressure=t.optional_quantity("max_dynamic_pressure", "pressure"),
+    )
+    if kind == "liquid":
+        return Facility(
+            **common,
+            speed=t.optional_quantity("speed", "speed"), speed_range=t.pair("speed_range", "speed"),
+            static_pressure=t.optional_quantity("static_pressure", "pressure"),
+            static_pressure_range=t.pair("static_pressure_range", "pressure"),
+            temperature=t.optional_quantity("temperature", "temperature"),
+            temperature_range=t.pair("temperature_range", "temperature"),
+        )
     p_range = t.pair("stagnation_pressure_range", "pressure")
     if p_range is None:
         t.require("stagnation_pressure_range", "the facility's [lowest, highest] stagnation pressure")
@@ -307,109 +328,216 @@ def _facility(t: _Table) -> Facility:
         mach = t.number("mach", low=0.0, high=1.0, low_open=True, high_open=True,
                         what="a Mach number above 0 and below 1")
     return Facility(
-        name=t.text("name", "facility"),
-        gas=gas,
-        stagnation_temperature=t.quantity("stagnation_temperature", "temperature"),
+        **common,
+        stagnation_temperature=t.optional_quantity("stagnation_temperature", "temperature"),
+        stagnation_temperature_range=t.pair("stagnation_temperature_range", "temperature"),
         stagnation_pressure_range=p_range,
-        stagnation_pressure=t.quantity("stagnation_pressure", "pressure") if t.has(
-            "stagnation_pressure") else None,
-        max_model_reference_length=t.quantity("max_model_reference_length", "length") if t.has(
-            "max_model_reference_length") else None,
-        mach=mach,
-        mach_range=m_range,
+        stagnation_pressure=t.optional_quantity("stagnation_pressure", "pressure"),
+        mach=mach, mach_range=m_range,
         mach_from=t.choice("mach_from", MACH_FROM, default="pressure_ratio"),
     )
 
 
-def _input(data: Any, index: int) -> InputSpec:
-    t = _Table(data, f"uncertain[{index}]", _INPUT_KEYS)
+def _input(data: Any, index: int, kind: str) -> InputSpec:
+    t = Table(data, f"uncertain[{index}]", _INPUT_KEYS)
     name = t.text("name", f"input {index + 1}")
     target = t.choice("perturbs", {k: k for k in TARGETS})
+    if kind not in TARGETS[target].modes:
+        raise StudyError(t.key("perturbs"), repr(target), f"a quantity of a {kind} facility")
     dist = t.choice("distribution", DISTRIBUTIONS)
-    kind = t.exclusive(("standard_uncertainty", "expanded_uncertainty", "half_width"))
+    size_kind = t.exclusive(("standard_uncertainty", "expanded_uncertainty", "half_width"))
     dim = TARGETS[target].dimension
-    raw = t.data[kind]
+    raw = t.data[size_kind]
     relative_ok = TARGETS[target].reading is not None
-    size = parse(t.key(kind), raw, dim, allow_relative=relative_ok)
+    size = parse(t.key(size_kind), raw, dim, allow_relative=relative_ok)
     if TARGETS[target].reading is None:
         size = Parsed(size.value, True)
-    _check_finite(t.key(kind), raw, size.value)
+    check_finite(t.key(size_kind), raw, size.value)
     if size.value <= 0.0:
-        raise StudyError(t.key(kind), raw, "an uncertainty greater than zero")
+        raise StudyError(t.key(size_kind), raw, "an uncertainty greater than zero")
     k = 1.0
-    if kind == "expanded_uncertainty":
+    if size_kind == "expanded_uncertainty":
         k = t.number("coverage_factor", low=0.0, low_open=True, what="a coverage factor k > 0")
     elif t.has("coverage_factor"):
         raise StudyError(t.key("coverage_factor"), t.data["coverage_factor"],
                          "a coverage factor only with expanded_uncertainty")
-    if kind == "half_width" and dist == "normal":
+    if size_kind == "half_width" and dist == "normal":
         raise StudyError(t.key("distribution"), "'normal' with half_width",
                          "'rectangular' or 'triangular' for limits, or standard_uncertainty / "
                          "expanded_uncertainty for a normal distribution")
-    return InputSpec(name, target, dist, kind, size, k, str(raw), t.text("note", ""), t.prefix)
+    return InputSpec(name, target, dist, size_kind, size, k, str(raw), t.text("note", ""), t.prefix)
+
+
+def _band(bt: Table, group: str, fs: FullScale) -> Band:
+    raw = bt.require("tolerance")
+    parsed = parse(bt.key("tolerance"), raw, "dimensionless", allow_relative=True)
+    tol = parsed.value
+    if output_key(group).endswith("_difference") and parsed.relative:
+        tol = parsed.value * fs.mach
+    if not (math.isfinite(tol) and tol > 0.0):
+        raise StudyError(bt.key("tolerance"), raw, "a tolerance greater than zero")
+    priority = bt.integer("priority", DEFAULT_PRIORITY.get(group, 2), 1)
+    return Band(group, tol, str(raw), priority, bt.flag("solve", True))
+
+
+def _custom_group(t: Table, name: str, fs: FullScale) -> tuple[CustomGroup, Band]:
+    if name in GROUPS:
+        raise StudyError(t.prefix, name, "a custom group name that is not a built-in group")
+    powers_raw = t.require("powers", "a table of quantity = exponent")
+    pt = Table(powers_raw, t.key("powers"), tuple(QUANTITIES))
+    powers = {}
+    for q in powers_raw:
+        powers[q] = pt.number(q, what="an exponent (a number)")
+    dims = ureg.Quantity(1.0, "")
+    for q, e in powers.items():
+        dims = dims * ureg.Quantity(1.0, QUANTITIES[q]) ** e
+    if not dims.dimensionless:
+        raise StudyError(t.key("powers"), powers_raw, "exponents that make the product "
+                         f"dimensionless (it has dimensions {dims.dimensionality})")
+    return CustomGroup(name, powers), _band(t, name, fs)
+
+
+def _match(data: Any, fs: FullScale, kind: str) -> tuple[tuple, tuple, tuple[str, ...]]:
+    allowed = ("solve_for", "custom") + tuple(GROUPS)
+    match = Table(data, "match", allowed)
+    solve_for = match.names("solve_for", ("stagnation_pressure",) if kind == "gas" else ("speed",))
+    names = SOLVE_NAMES[kind]
+    for n in solve_for:
+        if n not in names:
+            Table({"solve_for": n}, "match", ("solve_for",)).choice("solve_for", dict(
+                (k, k) for k in names))
+    bands, customs = [], []
+    for g in GROUPS:
+        if match.has(g):
+            bands.append(_band(Table(match.data[g], match.key(g), _BAND_KEYS), g, fs))
+    if match.has("custom"):
+        ct = Table(match.data["custom"], match.key("custom"), tuple(match.data["custom"]))
+        for name in ct.data:
+            cg, band = _custom_group(Table(ct.data[name], ct.key(name), _CUSTOM_KEYS), name, fs)
+            customs.append(cg)
+            bands.append(band)
+    if not bands:
+        raise StudyError("match", "no matched group", "at least one group table such as "
+                         "[match.reynolds] with a tolerance")
+    return tuple(bands), tuple(customs), solve_for
+
+
+def _unknowns(study_fac: Facility, solve_for, bands, model_size: str | None,
+              model_frequency: float | None, fs: FullScale, ft: Table, model: Table) -> tuple:
+    """Model keys solved for, including the implicit ones, with consistency checks."""
+    kind = study_fac.kind
+    unknowns = [SOLVE_NAMES[kind][n] for n in solve_for]
+    groups = {b.group for b in bands}
+    if kind == "gas" and "mach" in groups and study_fac.mach is None and "mach" not in unknowns:
+        unknowns.append("mach")  # the Mach number is matched to full scale
+    if "strouhal" in groups and model_frequency is None and "frequency" not in unknowns:
+        unknowns.append("frequency")
+    given = {"stagnation_pressure": ("facility.stagnation_pressure", study_fac.stagnation_pressure),
+             "stagnation_temperature": ("facility.stagnation_temperature",
+                                        study_fac.stagnation_temperature),
+             "mach": ("facility.mach", study_fac.mach),
+             "speed": ("facility.speed", study_fac.speed),
+             "static_pressure": ("facility.static_pressure", study_fac.static_pressure),
+             "temperature": ("facility.temperature", study_fac.temperature),
+             "model_length": ("model." + (model_size or "scale"), model_size),
+             "frequency": ("model.frequency", model_frequency)}
+    ranges = {"stagnation_pressure": "stagnation_pressure_range",
+              "stagnation_temperature": "stagnation_temperature_range",
+              "speed": "speed_range", "static_pressure": "static_pressure_range",
+              "temperature": "temperature_range"}
+    for u in unknowns:
+        if u == "fluid":
+            continue
+        key, value = given[u]
+        if value is not None:
+            raw = (model if key.startswith("model.") else ft).data.get(key.split(".", 1)[1], value)
+            why = "match.solve_for" if u in [SOLVE_NAMES[kind][n] for n in solve_for] else \
+                "a matched group"
+            raise StudyError(key, raw, f"no value: {why} solves for it ({u.replace('_', ' ')})")
+        if u in ranges and getattr(study_fac, ranges[u]) is None:
+            ft.require(ranges[u], f"the [lowest, highest] range of the solved {u.replace('_', ' ')}")
+    if kind == "gas":
+        needed = ("stagnation_pressure", "stagnation_temperature", "mach")
+    else:
+        needed = ("speed", "static_pressure", "temperature")
+    for u in needed + ("model_length",):
+        key, value = given[u]
+        if u not in unknowns and value is None:
+            if u == "static_pressure":
+                continue  # defaults to one standard atmosphere
+            if u == "mach":
+                ft.require("mach", "the test-section Mach number, needed when the Mach number is "
+                           "neither matched nor solved")
+            if u == "model_length":
+                model.require("scale", "or model.reference_length (or solve for model_scale)")
+            ft.require(key.split(".", 1)[1], f"needed unless match.solve_for includes it")
+    n_solving = len([b for b in bands if b.solve])
+    n_continuous = len([u for u in unknowns if u != "fluid"])
+    if n_continuous > n_solving:
+        raise StudyError("match.solve_for", list(solve_for),
+                         f"no more unknowns than solved groups ({n_continuous} unknowns "
+                         f"{', '.join(u for u in unknowns if u != 'fluid')} for {n_solving} groups)")
+    if "fluid" in unknowns and len(study_fac.fluids) < 2:
+        raise StudyError("facility.gas", [f.name for f in study_fac.fluids],
+                         "a list of two or more fluids to choose from (match.solve_for has 'gas')")
+    return tuple(unknowns)
+
+
+def _dimensional(data: Any) -> DimensionalAnalysis:
+    t = Table(data, "dimensional_analysis", _DIM_KEYS)
+    variables = t.require("variables", "a table of name = unit")
+    if not isinstance(variables, dict) or not variables:
+        raise StudyError(t.key("variables"), variables, "a table of name = unit, e.g. "
+                         "{ F = 'N', rho = 'kg/m^3' }")
+    for name, unit in variables.items():
+        try:
+            ureg.parse_units(unit)
+        except Exception as exc:  # noqa: BLE001 - pint raises several kinds
+            raise StudyError(f"{t.key('variables')}.{name}", unit, "a unit such as 'kg/m^3'") from exc
+    rep = t.names("repeating") if t.has("repeating") else None
+    return DimensionalAnalysis(dict(variables), rep)
 
 
 def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     """Validate a study already read from TOML into a dict and convert it to SI."""
-    root = _Table(data, "", _ROOT_KEYS)
-    fs = _full_scale(_Table(root.require("full_scale", "a [full_scale] table"), "full_scale", _FULL_SCALE_KEYS))
-    ft = _Table(root.require("facility", "a [facility] table"), "facility", _FACILITY_KEYS)
+    root = Table(data, "", _ROOT_KEYS)
+    fs = _full_scale(Table(root.require("full_scale", "a [full_scale] table"), "full_scale",
+                           _FULL_SCALE_KEYS))
+    ft = Table(root.require("facility", "a [facility] table"), "facility", _FACILITY_KEYS)
     fac = _facility(ft)
-    model = _Table(data.get("model", {}), "model", _MODEL_KEYS)
-    match = _Table(root.require("match", "a [match] table"), "match", _MATCH_KEYS)
-    solve_for = match.choice("solve_for", SOLVE_FOR, default="stagnation_pressure")
-
-    bands = []
-    for g in GROUPS:
-        if match.has(g):
-            bt = _Table(match.data[g], match.key(g), _BAND_KEYS)
-            raw = bt.require("tolerance")
-            parsed = parse(bt.key("tolerance"), raw, "dimensionless", allow_relative=True)
-            tol = parsed.value
-            if g == "mach" and parsed.relative:
-                tol = parsed.value * fs.mach
-            if not (math.isfinite(tol) and tol > 0.0):
-                raise StudyError(bt.key("tolerance"), raw, "a tolerance greater than zero")
-            bands.append(Band(g, tol, str(raw)))
-    if not any(b.group == "reynolds" for b in bands):
-        raise StudyError("match.reynolds", "nothing (the table is missing)",
-                         "a [match.reynolds] table with a tolerance: the solved quantity "
-                         f"({solve_for}) matches the Reynolds number")
-    mach_matched = any(b.group == "mach" for b in bands)
-
-    size = model.exclusive(("scale", "reference_length"), required=solve_for != "model_scale")
-    if solve_for == "model_scale" and size:
-        raise StudyError(model.key(size), model.data[size], "no model size: match.solve_for = "
-                         "'model_scale' solves for it")
-    scale = model.number("scale", low=0.0, low_open=True, what="a scale above 0") if size == "scale" else None
+    model = Table(data.get("model", {}), "model", _MODEL_KEYS)
+    bands, customs, solve_for = _match(root.require("match", "a [match] table"), fs, fac.kind)
+    for b in bands:
+        if b.group == "mach" and fac.kind == "liquid":
+            raise StudyError("match.mach", "a Mach band", "no Mach band for a liquid facility")
+        if b.group in ("weber", "cavitation") and (fac.kind != "liquid" or fs.fluid.kind != "liquid"):
+            raise StudyError(f"match.{b.group}", f"a {b.group} band",
+                             "a liquid facility and a liquid full scale")
+        if b.group == "strouhal" and fs.frequency is None:
+            Table(data["full_scale"], "full_scale", _FULL_SCALE_KEYS).require(
+                "frequency", "the full-scale frequency, needed by [match.strouhal]")
+    size = model.exclusive(("scale", "reference_length"), required=False)
+    scale = model.number("scale", low=0.0, low_open=True, what="a scale above 0") \
+        if size == "scale" else None
     ref_len = model.quantity("reference_length", "length") if size == "reference_length" else None
-
-    if solve_for == "stagnation_pressure":
-        if fac.stagnation_pressure is not None:
-            raise StudyError("facility.stagnation_pressure", ft.data["stagnation_pressure"],
-                             "no value: match.solve_for = 'stagnation_pressure' solves for it")
-    elif fac.stagnation_pressure is None:
-        ft.require("stagnation_pressure", f"needed when match.solve_for = '{solve_for}'")
-    if solve_for == "speed":
-        if fac.mach is not None:
-            raise StudyError("facility.mach", ft.data["mach"],
-                             "no value: match.solve_for = 'speed' solves for it")
-    elif not mach_matched and fac.mach is None:
-        ft.require("mach", "the test-section Mach number, needed when the Mach number is not matched")
-    elif mach_matched and fac.mach is not None:
-        raise StudyError("facility.mach", ft.data["mach"],
-                         "no value: the Mach number is matched to full scale ([match.mach])")
+    freq = model.optional_quantity("frequency", "frequency")
+    unknowns = _unknowns(fac, solve_for, bands, size, freq, fs, ft, model)
 
     inputs_raw = data.get("uncertain", [])
     if not isinstance(inputs_raw, list):
         raise StudyError("uncertain", inputs_raw, "an array of tables ([[uncertain]] entries)")
-    inputs = tuple(_input(d, i) for i, d in enumerate(inputs_raw))
+    inputs = tuple(_input(d, i, fac.kind) for i, d in enumerate(inputs_raw))
     names = [i.name for i in inputs]
     for i, n in enumerate(names):
         if names.index(n) != i:
             raise StudyError(f"uncertain[{i}].name", repr(n), "a name not used by another input")
+    for i, spec in enumerate(inputs):
+        p = TARGETS[spec.target].parameter
+        if p and not all(p in getattr(f, "parameters", ()) for f in fac.fluids):
+            raise StudyError(f"uncertain[{i}].perturbs", repr(spec.target),
+                             f"a quantity of the facility fluid ({fac.gas.name} has no {p})")
 
-    rt = _Table(data.get("run", {}), "run", _RUN_KEYS)
+    rt = Table(data.get("run", {}), "run", _RUN_KEYS)
     n_sobol = rt.integer("sobol_base_samples", 4096, 64)
     if n_sobol & (n_sobol - 1):
         raise StudyError("run.sobol_base_samples", n_sobol, "a power of two such as 1024 or 4096")
@@ -421,11 +549,13 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
                                        what="a probability above 0 and below 1"),
         sobol_base_samples=n_sobol,
     )
+    dim = _dimensional(data["dimensional_analysis"]) if "dimensional_analysis" in data else None
     return Study(
         title=root.text("title", "untitled study"),
         description=root.text("description", ""),
         full_scale=fs, facility=fac, model_scale=scale, model_reference_length=ref_len,
-        solve_for=solve_for, bands=tuple(bands), inputs=inputs, run=run,
+        solve_for=solve_for, unknowns=unknowns, bands=bands, inputs=inputs, run=run,
+        model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
         path=path, sha256=sha256, raw=data,
     )
 

@@ -23,6 +23,8 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
     "temperature": ("[temperature]", "K", "'305 K' or '12 degC'"),
     "temperature_difference": ("[temperature]", "K", "'0.2 K'"),
     "speed": ("[velocity]", "m/s", "'230 m/s'"),
+    "frequency": ("1/[time]", "Hz", "'12 Hz'"),
+    "area": ("[area]", "m^2", "'2.4 m^2'"),
     "dimensionless": ("", "", "'0.78' or '2 %'"),
 }
 

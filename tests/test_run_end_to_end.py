@@ -61,7 +61,8 @@ def test_results_json_schema(demo_run):
     assert doc["run"]["trials"] == 20000 and doc["run"]["seed"] == 7
     assert len(doc["study"]["sha256"]) == 64
     sp = doc["setpoint"]
-    assert sp["solve_for"] == "stagnation_pressure" and sp["feasible"] is True
+    assert sp["solve_for"] == ["stagnation_pressure", "mach"] and sp["feasible"] is True
+    assert sp["method"] == "exact" and sp["binding"] == [] and sp["fluid"] == "dry_air"
     assert sp["outputs"]["reynolds_ratio"] == pytest.approx(1.0, abs=1e-12)
     for key in ("reynolds_ratio", "mach_difference", "reynolds_model", "mach_model",
                 "dynamic_pressure", "speed", "density", "viscosity"):

@@ -118,7 +118,8 @@ def test_mach_match_and_p0_closed_form():
     p0_hand = re_fs / tunnel_re(1.0, T0, M_FS, l_model)
 
     assert sp.feasible
-    assert sp.solve_for == "stagnation_pressure"
+    assert sp.solve_for == ("stagnation_pressure", "mach")
+    assert sp.method == "exact"
     assert sp.nominal["mach"] == pytest.approx(M_FS, rel=1e-12)
     assert sp.outputs["mach_model"] == pytest.approx(M_FS, rel=1e-12)
     assert sp.required == pytest.approx(p0_hand, rel=1e-9)
@@ -179,7 +180,7 @@ def test_solve_model_scale_at_given_p0():
     re_fs = full_scale_re(P_FS, T_FS, M_FS, L_FS)
     # Re ∝ L: L = Re_fs / (Re per metre of model).
     l_hand = re_fs / tunnel_re(6.0e5, T0, M_FS, 1.0)
-    assert sp.solve_for == "model_scale"
+    assert sp.solve_for == ("model_length", "mach")
     assert sp.required == pytest.approx(l_hand, rel=1e-9)
     assert sp.nominal["model_length"] == pytest.approx(l_hand, rel=1e-9)
     assert sp.nominal["stagnation_pressure"] == pytest.approx(6.0e5, rel=1e-15)
@@ -204,7 +205,9 @@ def test_solve_model_scale_too_large_is_clamped():
     assert not sp.feasible
     assert sp.reynolds_shortfall == pytest.approx(0.30 / l_req - 1.0, rel=1e-9)
     lim = _limit(sp, "model_length", "max")
-    assert not lim.ok and lim.value == pytest.approx(l_req, rel=1e-9)
+    assert lim.ok and lim.active  # the solved length sits on the limit ...
+    assert sp.binding == ["model_length max 0.3 m"]  # ... which binds
+    assert sp.required_values["model_length"] == pytest.approx(l_req, rel=1e-9)
 
 
 # ---------------------------------------------------------------------------
@@ -272,10 +275,11 @@ def test_p0_above_facility_maximum():
     assert sp.outputs["reynolds_model"] == pytest.approx(
         tunnel_re(p0_max, T0, M_FS, 0.025 * L_FS), rel=1e-9)
     lim = _limit(sp, "stagnation_pressure", "max")
-    assert not lim.ok
-    assert lim.value == pytest.approx(p0_req, rel=1e-9)
-    assert _limit(sp, "stagnation_pressure", "min").ok
-    assert any("above the facility maximum" in msg for msg in sp.messages)
+    assert lim.active and sp.binding == ["stagnation_pressure max 900000 Pa"]
+    assert sp.required_values["stagnation_pressure"] == pytest.approx(p0_req, rel=1e-9)
+    assert not _limit(sp, "stagnation_pressure", "min").active
+    assert any("would need stagnation pressure" in msg for msg in sp.messages)
+    assert any("Binding limit: stagnation_pressure max" in msg for msg in sp.messages)
     # The Mach number is still matched at the nearest point.
     assert sp.mach_shortfall == pytest.approx(0.0, abs=1e-12)
 
@@ -293,7 +297,7 @@ def test_p0_below_facility_minimum():
     assert sp.nominal["stagnation_pressure"] == pytest.approx(5.0e4, rel=1e-15)
     assert not sp.feasible
     assert sp.reynolds_shortfall == pytest.approx(5.0e4 / p0_req - 1.0, rel=1e-9)
-    assert not _limit(sp, "stagnation_pressure", "min").ok
+    assert _limit(sp, "stagnation_pressure", "min").active
 
 
 # ---------------------------------------------------------------------------
@@ -331,14 +335,18 @@ def test_model_that_fits_is_not_flagged():
 def test_full_scale_mach_above_facility_range():
     # Full-scale Mach 0.95 with a facility limited to 0.92: the nearest Mach is
     # 0.92, the Mach difference is -0.03 and the set point is not feasible; p0
-    # is solved at M = 0.92 (hand closed form).
+    # is solved at M = 0.92 (hand closed form); a match would need M = 0.95.
     d = base_study()
     d["full_scale"]["mach"] = 0.95
     sp = solved(d)
     assert sp.nominal["mach"] == pytest.approx(0.92, rel=1e-15)
     assert sp.mach_shortfall == pytest.approx(0.92 - 0.95, abs=1e-12)
     re_fs = full_scale_re(P_FS, T_FS, 0.95, L_FS)
-    assert sp.required == pytest.approx(re_fs / tunnel_re(1.0, T0, 0.92, 0.0625 * L_FS), rel=1e-9)
+    assert sp.nominal["stagnation_pressure"] == pytest.approx(
+        re_fs / tunnel_re(1.0, T0, 0.92, 0.0625 * L_FS), rel=1e-9)
+    assert sp.reynolds_shortfall == pytest.approx(0.0, abs=1e-9)
+    assert sp.required_values["mach"] == pytest.approx(0.95, rel=1e-9)
+    assert sp.binding == ["mach max 0.92"]
     assert not sp.feasible
 
 
@@ -358,7 +366,7 @@ def test_unreachable_speed_messages_name_the_facility_limit():
     d["match"] = {"solve_for": "speed", "reynolds": {"tolerance": "1 %"}}
     sp = solved(d)
     text = " ".join(sp.messages)
-    assert "highest Mach number 0.92 is used" in text
+    assert "Binding limit: mach max 0.92" in text
     assert "0.9999" not in text
     assert all(lim.value == pytest.approx(0.92) for lim in sp.limits if lim.quantity == "mach")
 
@@ -367,9 +375,10 @@ def test_speed_solve_with_mach_band_explains_the_mismatch():
     d = base_study()
     d["facility"]["stagnation_pressure"] = "8 bar"
     d["match"]["solve_for"] = "speed"
+    d["match"]["mach"]["solve"] = False
     sp = solved(d)
-    assert not sp.feasible
-    assert any("checked, not imposed" in m for m in sp.messages)
+    assert sp.feasible  # the Reynolds number is matched; the Mach band is only checked
+    assert any("mach is checked, not imposed: mach_difference" in m for m in sp.messages)
 
 
 def test_relative_mach_tolerance_is_a_fraction_of_the_full_scale_mach():

@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 
 from .. import __version__
-from ..model import OUTPUTS, TARGETS
+from ..model import TARGETS, describe_output
 from ..units import DIMENSIONS
 
 
@@ -55,6 +55,16 @@ SAFETY = [
 ]
 
 
+def _state_line(st, o) -> str:
+    if st.kind == "gas":
+        return (f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation "
+                f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}, "
+                f"model reference length {o['model_length'] * 1e3:.2f} mm.")
+    return (f"Speed {o['speed']:.4g} m/s, static pressure {o['static_pressure'] / 1e3:.4g} kPa, "
+            f"temperature {o['static_temperature']:.2f} K, model reference length "
+            f"{o['model_length'] * 1e3:.1f} mm.")
+
+
 def build(result) -> list[Block]:
     st, sp = result.study, result.setpoint
     fs, fac = st.full_scale, st.facility
@@ -65,51 +75,76 @@ def build(result) -> list[Block]:
 
     verdict = "achievable and matched" if sp.feasible else "NOT achievable as stated"
     conf = result.conformity
+    solved = ", ".join(k.replace("_", " ") for k in sp.solve_for) or "nothing"
     b += [Block("heading", "Summary"), Block("bullets", [
-        f"Facility: {fac.name}; working gas {fac.gas.name}.",
-        f"Set point ({sp.solve_for.replace('_', ' ')} solved): {verdict}.",
-        f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation temperature "
-        f"{o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}, model reference length "
-        f"{o['model_length'] * 1e3:.2f} mm.",
+        f"Facility: {fac.name}; working fluid {sp.fluid or fac.gas.name}.",
+        f"Set point ({solved} solved, {sp.method}): {verdict}.",
+        _state_line(st, o),
+        "Matched groups at the set point: " + "; ".join(
+            f"{band.output} = {o[band.output]:.5g}" for band in st.bands) + ".",
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
     ] + ([f"Input to control more tightly first: {result.ranking.index[0]} "
           f"({result.ranking.iloc[0]['perturbs']})."] if len(result.ranking) else []))]
 
     b.append(Block("heading", "Full-scale condition"))
-    rows = [("static pressure", fs.static_pressure, "Pa"),
+    rows = [("fluid", fs.fluid.name, ""),
+            ("static pressure", fs.static_pressure, "Pa"),
             ("static temperature", fs.static_temperature, "K"),
             ("Mach number", o["mach_full_scale"], "1"),
             ("speed", o["full_scale_speed"], "m/s"),
-            ("reference length", fs.reference_length, "m"),
-            ("Reynolds number", o["reynolds_full_scale"], "1")]
+            ("reference length", fs.reference_length, "m")]
     if fs.altitude is not None:
-        rows[:0] = [("geometric altitude (standard atmosphere)", fs.altitude, "m"),
-                    ("temperature offset", fs.temperature_offset, "K")]
+        rows[1:1] = [("geometric altitude (standard atmosphere)", fs.altitude, "m"),
+                     ("temperature offset", fs.temperature_offset, "K")]
+    if fs.depth is not None:
+        rows[1:1] = [("depth", fs.depth, "m")]
+    if fs.frequency is not None:
+        rows.append(("frequency", fs.frequency, "Hz"))
+    rows += [(f"{band.group} number", o[f"{band.group}_full_scale"], "1") for band in st.bands]
     b.append(Block("table", _table(pd.DataFrame(rows, columns=["quantity", "value", "unit"]))))
 
     b.append(Block("heading", "Matched set point"))
-    rows = [("stagnation pressure p0", o["stagnation_pressure"], "Pa"),
-            ("stagnation temperature T0", o["stagnation_temperature"], "K"),
-            ("Mach number", o["mach_model"], "1"),
-            ("model reference length", o["model_length"], "m"),
-            ("model scale", o["model_length"] / fs.reference_length, "1"),
-            ("static pressure p", o["static_pressure"], "Pa"),
-            ("static temperature T", o["static_temperature"], "K"),
-            ("speed U", o["speed"], "m/s"),
-            ("density rho", o["density"], "kg/m^3"),
-            ("viscosity mu", o["viscosity"], "Pa s"),
-            ("dynamic pressure q", o["dynamic_pressure"], "Pa"),
-            ("Reynolds number", o["reynolds_model"], "1"),
-            ("Re_model / Re_full", o["reynolds_ratio"], "1"),
-            ("Ma_model - Ma_full", o["mach_difference"], "1")]
+    if st.kind == "gas":
+        rows = [("stagnation pressure p0", o["stagnation_pressure"], "Pa"),
+                ("stagnation temperature T0", o["stagnation_temperature"], "K"),
+                ("Mach number", o["mach_model"], "1")]
+    else:
+        rows = [("speed U", o["speed"], "m/s"), ("static pressure p", o["static_pressure"], "Pa"),
+                ("temperature T", o["static_temperature"], "K")]
+    rows += [("model reference length", o["model_length"], "m"),
+             ("model scale", o["model_length"] / fs.reference_length, "1")]
+    if "frequency" in o:
+        rows.append(("model frequency", o["frequency"], "Hz"))
+    if st.kind == "gas":
+        rows += [("static pressure p", o["static_pressure"], "Pa"),
+                 ("static temperature T", o["static_temperature"], "K"),
+                 ("speed U", o["speed"], "m/s")]
+    rows += [("density rho", o["density"], "kg/m^3"),
+             ("viscosity mu", o["viscosity"], "Pa s"),
+             ("dynamic pressure q", o["dynamic_pressure"], "Pa")]
+    for band in st.bands:
+        rows += [(f"{band.group} number (model)", o[f"{band.group}_model"], "1"),
+                 (band.output, o[band.output], "1")]
     b.append(Block("table", _table(pd.DataFrame(rows, columns=["quantity", "value", "unit"]))))
     if sp.limits:
-        lim = pd.DataFrame([(x.quantity, x.side, x.bound, x.value, x.unit, "ok" if x.ok else "VIOLATED")
+        lim = pd.DataFrame([(x.quantity, x.side, x.bound, x.value, x.unit,
+                             "VIOLATED" if not x.ok else ("binding" if x.active and not sp.feasible
+                                                         else "ok"))
                             for x in sp.limits],
                            columns=["quantity", "limit", "bound", "set point", "unit", "status"])
         b.append(Block("paragraph", "Facility limits:"))
         b.append(Block("table", _table(lim)))
+    if sp.mismatch:
+        b.append(Block("paragraph", "Mismatch of each solved group, in tolerance bands "
+                       "(ln ratio / tolerance; difference / tolerance for the Mach number):"))
+        b.append(Block("table", _table(pd.DataFrame(
+            [(g, v) for g, v in sp.mismatch.items()], columns=["group", "mismatch (bands)"]))))
+    if sp.alternatives:
+        b.append(Block("paragraph", "Candidate working fluids:"))
+        b.append(Block("table", _table(pd.DataFrame(
+            [(a["fluid"], a["feasible"], "; ".join(f"{g} {v:+.3g}" for g, v in a["mismatch"].items()))
+             for a in sp.alternatives], columns=["fluid", "feasible", "mismatch (bands)"]))))
     if sp.messages:
         b.append(Block("bullets", list(sp.messages)))
 
@@ -129,7 +164,7 @@ def build(result) -> list[Block]:
     p = 100 * result.coverage_probability
     b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))
     s = result.statistics
-    tab = pd.DataFrame({"quantity": [OUTPUTS[k][1] for k in s.index], "unit": s["unit"],
+    tab = pd.DataFrame({"quantity": [describe_output(k)[1] for k in s.index], "unit": s["unit"],
                         "nominal": s["nominal"], "mean": s["mean"], "u": s["standard_uncertainty"],
                         f"{p:g} % low": s["low"], f"{p:g} % high": s["high"]})
     b.append(Block("table", _table(tab.reset_index(drop=True))))

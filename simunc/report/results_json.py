@@ -6,7 +6,7 @@ import json
 import math
 
 from .. import __version__
-from ..model import NOMINAL_KEYS, OUTPUTS, TARGETS
+from ..model import TARGETS
 from ..units import DIMENSIONS
 
 SCHEMA_VERSION = 1
@@ -43,15 +43,22 @@ def results_dict(result) -> dict:
                 "coverage_probability": result.coverage_probability,
                 "sobol_base_samples": st.run.sobol_base_samples, "sampling": "pseudo-random (PCG64)"},
         "setpoint": {
-            "solve_for": sp.solve_for,
+            "solve_for": list(sp.solve_for),
+            "method": sp.method,
+            "fluid": sp.fluid,
             "required_value": sp.required,
+            "required_values": dict(sp.required_values),
             "feasible": sp.feasible,
+            "mismatch": dict(sp.mismatch),
+            "binding": list(sp.binding),
+            "alternatives": list(sp.alternatives),
             "reynolds_shortfall": sp.reynolds_shortfall,
-            "mach_shortfall": sp.mach_shortfall,
-            "nominal": {k: sp.nominal[k] for k in NOMINAL_KEYS},
+            "mach_shortfall": sp.mach_shortfall if "mach_difference" in sp.outputs else None,
+            "nominal": {k: v for k, v in sp.nominal.items() if v is not None},
             "outputs": dict(sp.outputs),
             "limits": [{"quantity": lim.quantity, "side": lim.side, "bound": lim.bound,
-                        "value": lim.value, "unit": lim.unit, "ok": lim.ok} for lim in sp.limits],
+                        "value": lim.value, "unit": lim.unit, "ok": lim.ok, "active": lim.active}
+                       for lim in sp.limits],
             "messages": list(sp.messages),
         },
         "inputs": [{
@@ -74,7 +81,7 @@ def results_dict(result) -> dict:
                         for out, table in result.sobol.items()},
         },
         "ranking": [{"input": name, **row} for name, row in result.ranking.iterrows()],
-        "output_units": {k: u for k, (u, _) in OUTPUTS.items()},
+        "output_units": {k: row["unit"] for k, row in result.statistics.iterrows()},
     }
     return _clean(doc)
 

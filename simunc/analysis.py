@@ -22,7 +22,9 @@ from .model import SimilitudeModel, describe_output
 from .propagate import Problem, monte_carlo, summarize
 from .sensitivity import sobol_indices
 from .setpoint import SetPoint, build_model, solve
+from .envelope import Envelope, envelope
 from .study import Study
+from .testplan import TestPlan, plan
 
 
 @dataclass
@@ -40,6 +42,9 @@ class Result:
     ranking: pd.DataFrame
     input_values: np.ndarray
     output_values: dict[str, np.ndarray]
+    envelope: Envelope | None = None
+    test_plan: TestPlan | None = None
+    pi_groups: list | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -141,8 +146,8 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     settings = replace(study.run, **{k: v for k, v in (("trials", trials), ("seed", seed))
                                      if v is not None})
     study = replace(study, run=settings)
-    model = build_model(study)
-    setpoint = solve(study, model)
+    setpoint = solve(study)
+    model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
     inputs = build_inputs(study.inputs, setpoint)
     problem = similitude_problem(model, setpoint, inputs)
     x, y = monte_carlo(problem, settings.trials, settings.seed)
@@ -152,5 +157,6 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     sobol = sobol_indices(problem, outputs, settings.sobol_base_samples, settings.seed) if inputs else {
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
     ranking = _ranking(sobol, stats, study, inputs)
+    pis = list(study.dimensional_analysis.groups) if study.dimensional_analysis else None
     return Result(study, setpoint, inputs, settings.trials, settings.seed, stats, conf, sobol,
-                  ranking, x, y)
+                  ranking, x, y, envelope(study, model, setpoint), plan(study, model, setpoint), pis)

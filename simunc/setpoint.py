@@ -198,9 +198,10 @@ def nominal_state(study: Study, fluid=None) -> dict:
 def _band_residual(b: Band, out: dict) -> float:
     """Mismatch of a group in tolerance bands: ln(ratio) / tol or difference / tol."""
     y = float(np.asarray(out[b.output]))
+    aim = b.centre if b.target is None else b.target
     if b.is_difference:
-        return (y - b.centre) / b.tolerance
-    return math.log(y) / b.tolerance if y > 0.0 else math.inf
+        return (y - aim) / b.tolerance
+    return math.log(y / aim) / b.tolerance if y > 0.0 else math.inf
 
 
 def _residuals(model: SimilitudeModel, bands: list[Band], state: dict, q_max: float | None):
@@ -253,6 +254,20 @@ def _solve_one(model: SimilitudeModel, base: dict, keys: list[str],
                 break
             state[pkey] *= q_max / q
     return state, _scalar(model(state))
+
+
+def solve_state(study: Study, model: SimilitudeModel, keys, bands) -> tuple[dict, dict]:
+    """Set-point state (and outputs) solving ``bands`` for the model keys ``keys``.
+
+    The building block of :func:`solve` and of test planning; the facility
+    limits bound the unknowns and the dynamic-pressure limit holds.
+    """
+    keys = list(keys)
+    base = nominal_state(study, model.fluid)
+    for k in keys:
+        base[k] = None
+    return _solve_one(model, base, keys, {k: bounds(study, k) for k in keys}, list(bands),
+                      study.facility.max_dynamic_pressure)
 
 
 def _limits(study: Study, state: dict, out: dict) -> list[Limit]:

@@ -122,6 +122,7 @@ class Band:
     text: str
     priority: int = 2
     solve: bool = True
+    target: float | None = None  # solver aim, default the centre (used by test planning)
 
     @property
     def output(self) -> str:
@@ -165,6 +166,7 @@ class DimensionalAnalysis:
 
     variables: dict
     repeating: tuple | None
+    groups: tuple = ()
 
 
 @dataclass(frozen=True)
@@ -495,7 +497,13 @@ def _dimensional(data: Any) -> DimensionalAnalysis:
         except Exception as exc:  # noqa: BLE001 - pint raises several kinds
             raise StudyError(f"{t.key('variables')}.{name}", unit, "a unit such as 'kg/m^3'") from exc
     rep = t.names("repeating") if t.has("repeating") else None
-    return DimensionalAnalysis(dict(variables), rep)
+    from .dimensional import pi_groups
+    try:
+        groups = pi_groups(dict(variables), list(rep) if rep else None)
+    except ValueError as exc:
+        raise StudyError(t.key("repeating" if rep else "variables"), rep or variables,
+                         f"a valid set ({exc})") from exc
+    return DimensionalAnalysis(dict(variables), rep, tuple(groups))
 
 
 def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:

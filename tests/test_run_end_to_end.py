@@ -41,7 +41,7 @@ def test_report_files(demo_run):
 
 def test_html_is_self_contained(demo_run):
     page = (demo_run / "report.html").read_text()
-    assert page.count("data:image/png;base64,") == 2
+    assert page.count("data:image/png;base64,") == 3  # histogram, envelope, Sobol
     assert "src=\"http" not in page and "href=\"http" not in page
 
 

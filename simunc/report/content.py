@@ -148,6 +148,36 @@ def build(result) -> list[Block]:
     if sp.messages:
         b.append(Block("bullets", list(sp.messages)))
 
+    if result.envelope is not None:
+        b.append(Block("figure", "envelope_map.png", caption="Reynolds numbers the facility reaches "
+                       "against the Mach (or Froude) number, full-scale target and set point."))
+    tp = result.test_plan
+    if tp is not None and tp.runs:
+        b.append(Block("heading", "Split-test plan"))
+        b.append(Block("paragraph", f"The facility cannot match the Reynolds number with the "
+                       f"{tp.primary.capitalize()} number matched. Runs that bracket the full-scale condition:"))
+        rows = []
+        for r in tp.runs:
+            row = {"run": r.label, "purpose": r.purpose}
+            for k in ("stagnation_pressure", "stagnation_temperature", "mach", "speed",
+                      "temperature", "model_length"):
+                if k in r.state and r.state[k] is not None:
+                    row[k] = r.state[k]
+            row["reynolds_ratio"] = r.outputs["reynolds_ratio"]
+            key = "mach_difference" if tp.primary == "mach" else f"{tp.primary}_ratio"
+            row[key] = r.outputs[key]
+            rows.append(row)
+        b.append(Block("table", _table(pd.DataFrame(rows))))
+        b.append(Block("bullets", list(tp.notes)))
+
+    if result.pi_groups:
+        b.append(Block("heading", "Dimensional analysis (Buckingham Pi)"))
+        da = st.dimensional_analysis
+        b.append(Block("paragraph", "Variables: " + ", ".join(f"{k} [{v}]" for k, v in da.variables.items())
+                       + (f"; repeating: {', '.join(da.repeating)}." if da.repeating else ".")))
+        b.append(Block("table", pd.DataFrame([(g.name, g.formula) for g in result.pi_groups],
+                                             columns=["group", "product of powers"])))
+
     b.append(Block("heading", "Uncertain inputs"))
     if result.inputs:
         rows = [(i.name, i.target, i.kind, f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"

@@ -62,9 +62,36 @@ def sobol_bars(result) -> bytes:
     return _png(fig)
 
 
+def envelope_map(result) -> bytes:
+    """Reynolds number against Mach (or Froude) number: facility region, target and set point."""
+    env = result.envelope
+    fig, ax = plt.subplots(figsize=(7.0, 4.2))
+    colours = ["#4a78a8", "#e1a33b", "#6ab04c"]
+    for (label, (_, lo, hi)), c in zip(env.bands.items(), colours):
+        ax.fill_between(env.x, lo, hi, color=c, alpha=0.3, label=f"reachable, {label}")
+        ax.plot(env.x, hi, color=c, lw=1.0)
+    ax.plot(*env.target, marker="*", ms=14, color="#c0392b", ls="none", label="full scale")
+    ax.plot(*env.setpoint, marker="o", ms=8, color="black", ls="none", label="set point")
+    if result.test_plan is not None:
+        for r in result.test_plan.runs:
+            x = r.outputs[f"{env.abscissa}_model"]
+            ax.plot(x, r.outputs["reynolds_model"], marker="s", ms=5, color="#555555", ls="none")
+            ax.annotate(r.label, (x, r.outputs["reynolds_model"]), textcoords="offset points",
+                        xytext=(4, 4), fontsize=7)
+    ax.set_yscale("log")
+    ax.set_xlabel("Mach number" if env.abscissa == "mach" else "Froude number")
+    ax.set_ylabel("Reynolds number")
+    ax.set_title("Facility envelope")
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=7, loc="best")
+    return _png(fig)
+
+
 def all_figures(result) -> dict[str, bytes]:
     """File name -> PNG bytes."""
     figs = {"reynolds_ratio_histogram.png": reynolds_histogram(result)}
+    if result.envelope is not None:
+        figs["envelope_map.png"] = envelope_map(result)
     if result.inputs:
         figs["sobol_indices.png"] = sobol_bars(result)
     return figs

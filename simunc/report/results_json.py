@@ -81,6 +81,28 @@ def results_dict(result) -> dict:
                         for out, table in result.sobol.items()},
         },
         "ranking": [{"input": name, **row} for name, row in result.ranking.iterrows()],
+        "envelope": None if result.envelope is None else {
+            "abscissa": result.envelope.abscissa,
+            "x": [float(v) for v in result.envelope.x],
+            "bands": {label: {"model_length": length, "reynolds_low": [float(v) for v in lo],
+                              "reynolds_high": [float(v) for v in hi]}
+                      for label, (length, lo, hi) in result.envelope.bands.items()},
+            "target": list(result.envelope.target), "setpoint": list(result.envelope.setpoint),
+        },
+        "test_plan": None if result.test_plan is None or not result.test_plan.runs else {
+            "primary": result.test_plan.primary,
+            "runs": [{"label": r.label, "purpose": r.purpose,
+                      "state": {k: v for k, v in r.state.items() if v is not None},
+                      "outputs": {k: float(v) for k, v in r.outputs.items()}}
+                     for r in result.test_plan.runs],
+            "reynolds_covered": list(result.test_plan.reynolds_covered),
+            "reynolds_full_scale": result.test_plan.reynolds_full_scale,
+            "extrapolation_ratio": result.test_plan.extrapolation_ratio,
+            "notes": list(result.test_plan.notes),
+        },
+        "pi_groups": None if not result.pi_groups else [
+            {"name": g.name, "exponents": {k: int(v) for k, v in g.exponents.items()},
+             "formula": g.formula} for g in result.pi_groups],
         "output_units": {k: row["unit"] for k, row in result.statistics.iterrows()},
     }
     return _clean(doc)

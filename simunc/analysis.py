@@ -23,6 +23,7 @@ from .propagate import Problem, monte_carlo, summarize
 from .sensitivity import sobol_indices
 from .setpoint import SetPoint, build_model, solve
 from .envelope import Envelope, envelope
+from .errors import StudyError
 from .study import Study
 from .testplan import TestPlan, plan
 
@@ -40,6 +41,7 @@ class Result:
     conformity: dict[str, float]
     sobol: dict[str, pd.DataFrame]
     ranking: pd.DataFrame
+    warnings: list
     input_values: np.ndarray
     output_values: dict[str, np.ndarray]
     envelope: Envelope | None = None
@@ -51,8 +53,8 @@ class Result:
         return self.study.run.coverage_probability
 
     def samples(self) -> pd.DataFrame:
-        """The trials: input deviations (SI) and every output, one row per trial."""
-        cols = {i.name: self.input_values[:, j] for j, i in enumerate(self.inputs)}
+        """The trials: input deviations (SI, columns ``input: <name>``) and every output."""
+        cols = {f"input: {i.name}": self.input_values[:, j] for j, i in enumerate(self.inputs)}
         cols.update({k: np.asarray(v) for k, v in self.output_values.items()})
         return pd.DataFrame(cols)
 
@@ -133,6 +135,46 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
     return table.set_index("input")
 
 
+#: Largest memory the trials may take [bytes]; chunked propagation comes with the Monte Carlo engine.
+MEMORY_LIMIT = 12 * 2**30
+
+
+def check_trials(y: dict[str, np.ndarray], model: SimilitudeModel) -> list[str]:
+    """Refuse trials outside the model; return warnings for trials at its edge.
+
+    Raises
+    ------
+    StudyError
+        When some trials give non-finite or non-physical values (the inputs'
+        sizes are too large for the model), or leave the fluid model.
+    """
+    n = len(next(iter(y.values())))
+    bad = np.zeros(n, dtype=bool)
+    for v in y.values():
+        bad |= ~np.isfinite(v)
+    reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above the "
+               "stagnation pressure)"] if bad.any() else []
+    for key in ("model_length", "static_pressure", "static_temperature", "density", "viscosity",
+                "speed"):
+        neg = np.asarray(y[key]) <= 0.0
+        if neg.any():
+            reasons.append(f"{np.count_nonzero(neg)} with {key.replace('_', ' ')} <= 0")
+    if not reasons:
+        why = model.fluid.check_state(y["static_pressure"], y["static_temperature"])
+        if why:
+            reasons.append(f"some outside the {model.fluid.name} model ({why})")
+    if reasons:
+        raise StudyError("uncertain", f"sizes that make trials non-physical ({'; '.join(reasons)} "
+                         f"of {n})", "input sizes small enough that every trial is a physical state")
+    warn = []
+    if model.kind == "gas":
+        sonic = np.count_nonzero(np.asarray(y["mach_model"]) >= 1.0)
+        if sonic:
+            warn.append(f"{sonic} of {n} trials ({100 * sonic / n:.3g} %) reach a test-section Mach "
+                        "number of 1 or more, where the subsonic set-point relations stop holding.")
+    return warn
+
+
 def run(study: Study, trials: int | None = None, seed: int | None = None) -> Result:
     """Solve the set point and propagate the study's uncertain inputs.
 
@@ -150,7 +192,16 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
     inputs = build_inputs(study.inputs, setpoint)
     problem = similitude_problem(model, setpoint, inputs)
+    width = len(inputs) + len(model(setpoint.nominal))
+    if settings.trials * width * 8 * 3 > MEMORY_LIMIT:
+        raise StudyError("run.trials", settings.trials, f"at most about "
+                         f"{MEMORY_LIMIT // (width * 24):.3g} trials for this study on this version "
+                         "(it keeps every trial in memory)")
     x, y = monte_carlo(problem, settings.trials, settings.seed)
+    warnings = check_trials(y, model)
+    if not setpoint.feasible:
+        warnings.append("The set point is not achievable as stated: it violates a facility limit or "
+                        "misses a group. Do not run it as it stands; see the set-point section.")
     stats = _statistics(y, setpoint, settings.coverage_probability)
     conf = conformity(y, study)
     outputs = [b.output for b in study.bands]
@@ -159,4 +210,4 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     ranking = _ranking(sobol, stats, study, inputs)
     pis = list(study.dimensional_analysis.groups) if study.dimensional_analysis else None
     return Result(study, setpoint, inputs, settings.trials, settings.seed, stats, conf, sobol,
-                  ranking, x, y, envelope(study, model, setpoint), plan(study, model, setpoint), pis)
+                  ranking, warnings, x, y, envelope(study, model, setpoint), plan(study, model, setpoint), pis)

@@ -78,6 +78,9 @@ def _run(args) -> int:
     from .report import write_report
     from .study import load_study
 
+    from .report.write import check_out_dir
+
+    check_out_dir(args.out)
     study = load_study(args.study)
     result = run(study, trials=args.trials, seed=args.seed)
     written = write_report(result, args.out, samples=args.samples)
@@ -94,6 +97,10 @@ def main(argv: list[str] | None = None) -> int:
         return _check(args) if args.command == "check" else _run(args)
     except StudyError as exc:
         print(f"simunc: error: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except MemoryError:
+        print("simunc: error: not enough memory for this run (lower --trials or "
+              "run.sobol_base_samples)", file=sys.stderr)
         return EXIT_BAD_INPUT
     except SimuncError as exc:
         print(f"simunc: error: {exc}", file=sys.stderr)

@@ -40,8 +40,10 @@ class Problem:
         return len(self.names)
 
     def evaluate(self, x: np.ndarray) -> dict[str, np.ndarray]:
-        """Evaluate on an ``(n, d)`` matrix of input values."""
-        return dict(self.func({n: x[:, j] for j, n in enumerate(self.names)}))
+        """Evaluate on an ``(n, d)`` matrix of input values (one output value per row)."""
+        with np.errstate(all="ignore"):  # non-finite trials are reported by the caller
+            out = self.func({n: x[:, j] for j, n in enumerate(self.names)})
+        return {k: np.broadcast_to(v, (x.shape[0],)) for k, v in out.items()}
 
     def evaluate_unit(self, u: np.ndarray) -> dict[str, np.ndarray]:
         """Evaluate on an ``(n, d)`` matrix of points of the unit hypercube."""

@@ -305,7 +305,8 @@ def _facility(t: Table) -> Facility:
         max_model_reference_length=t.optional_quantity("max_model_reference_length", "length"),
         test_section_area=t.optional_quantity("test_section_area", "area"),
         max_blockage=(t.number("max_blockage", low=0.0, high=1.0, low_open=True,
-                               what="a blockage fraction above 0 and at most 1, e.g. '1 %'")
+                               what="a blockage fraction above 0 and at most 1, e.g. '1 %'",
+                               allow_percent=True)
                       if t.has("max_blockage") else None),
         max_dynamic_pressure=t.optional_quantity("max_dynamic_pressure", "pressure"),
     )
@@ -387,9 +388,7 @@ def _custom_group(t: Table, name: str, fs: FullScale) -> tuple[CustomGroup, Band
         raise StudyError(t.prefix, name, "a custom group name that is not a built-in group")
     powers_raw = t.require("powers", "a table of quantity = exponent")
     pt = Table(powers_raw, t.key("powers"), tuple(QUANTITIES))
-    powers = {}
-    for q in powers_raw:
-        powers[q] = pt.number(q, what="an exponent (a number)")
+    powers = {q: pt.number(q, what="an exponent (a number)") for q in powers_raw}
     dims = ureg.Quantity(1.0, "")
     for q, e in powers.items():
         dims = dims * ureg.Quantity(1.0, QUANTITIES[q]) ** e

@@ -55,11 +55,14 @@ class Table:
 
     def number(self, name: str, *, default: float | None = None, low: float = -math.inf,
                high: float = math.inf, low_open: bool = False, high_open: bool = False,
-               what: str = "a number") -> float:
+               what: str = "a number", allow_percent: bool = False) -> float:
         if name not in self.data and default is not None:
             return default
         raw = self.require(name)
-        value = parse(self.key(name), raw, "dimensionless").value
+        parsed = parse(self.key(name), raw, "dimensionless", allow_relative=True)
+        if parsed.relative and not allow_percent:
+            raise StudyError(self.key(name), raw, what + " (a plain number, not a percentage)")
+        value = parsed.value
         check_finite(self.key(name), raw, value)
         bad_low = value <= low if low_open else value < low
         bad_high = value >= high if high_open else value > high
@@ -79,7 +82,7 @@ class Table:
             raw = self.require(name)
         if not isinstance(raw, str):
             raise StudyError(self.key(name), raw, "a string")
-        return raw
+        return raw.strip()
 
     def choice(self, name: str, options, default: str | None = None) -> str:
         raw = self.text(name, default)

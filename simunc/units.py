@@ -30,6 +30,7 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 _RELATIVE_UNITS = {"percent", "permille", "ppm"}
+_UNIT_TEXT = re.compile(r"^[A-Za-z0-9_ *^/.()%°µΩ-]*$")
 
 
 @dataclass(frozen=True)
@@ -55,6 +56,8 @@ def _split(key: str, text: object, expected: str) -> tuple[float, str]:
 
 def _quantity(key: str, text: object, expected: str) -> pint.Quantity:
     magnitude, unit = _split(key, text, expected)
+    if not _UNIT_TEXT.match(unit):
+        raise StudyError(key, text, expected, f"'{unit}' is not a unit")
     try:
         units = ureg.parse_units(unit) if unit else ureg.dimensionless
     except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError,

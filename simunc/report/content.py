@@ -56,13 +56,14 @@ SAFETY = [
 
 
 def _state_line(st, o) -> str:
+    scale = st.full_scale.reference_length / o["model_length"]
+    model = f"model reference length {o['model_length'] * 1e3:.2f} mm (scale 1:{scale:.4g})"
     if st.kind == "gas":
         return (f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation "
-                f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}, "
-                f"model reference length {o['model_length'] * 1e3:.2f} mm.")
+                f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f} "
+                f"(U = {o['speed']:.4g} m/s), {model}.")
     return (f"Speed {o['speed']:.4g} m/s, static pressure {o['static_pressure'] / 1e3:.4g} kPa, "
-            f"temperature {o['static_temperature']:.2f} K, model reference length "
-            f"{o['model_length'] * 1e3:.1f} mm.")
+            f"temperature {o['static_temperature']:.2f} K, {model}.")
 
 
 def build(result) -> list[Block]:
@@ -85,7 +86,10 @@ def build(result) -> list[Block]:
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
     ] + ([f"Input to control more tightly first: {result.ranking.index[0]} "
-          f"({result.ranking.iloc[0]['perturbs']})."] if len(result.ranking) else []))]
+          f"({result.ranking.iloc[0]['perturbs']})."] if len(result.ranking) and sp.feasible else [])
+        + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
+            "and the facility limits."] if not sp.feasible else [])
+        + [f"Warning: {w}" for w in result.warnings])]
 
     b.append(Block("heading", "Full-scale condition"))
     rows = [("fluid", fs.fluid.name, ""),

@@ -28,7 +28,8 @@ def markdown(blocks: list[Block]) -> str:
         elif b.kind == "bullets":
             out.append("\n".join(f"- {x}" for x in b.content))
         elif b.kind == "table":
-            out.append(b.content.to_markdown(index=False))
+            cells = b.content.map(lambda v: str(v).replace("|", "\\|"))
+            out.append(cells.to_markdown(index=False))
         elif b.kind == "figure":
             out.append(f"![{b.caption}]({b.content})\n\n*{b.caption}*")
     return "\n\n".join(out) + "\n"

@@ -69,6 +69,7 @@ def results_dict(result) -> dict:
             "unit": DIMENSIONS[TARGETS[i.target].dimension][1] or "1",
         } for i in result.inputs],
         "outputs": outputs,
+        "warnings": list(result.warnings),
         "conformity": {
             "probability": dict(result.conformity),
             "bands": {b.group: {"output": b.output, "centre": b.centre, "tolerance": b.tolerance,

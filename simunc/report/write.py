@@ -12,6 +12,21 @@ from . import content, figures, render
 from .results_json import results_json
 
 SAMPLE_FORMATS = ("csv", "parquet")
+#: Every file a report folder may hold; those a run does not write are removed (no stale files).
+REPORT_FILES = ("report.md", "report.html", "results.json", "reynolds_ratio_histogram.png",
+                "envelope_map.png", "sobol_indices.png", "samples.csv", "samples.parquet")
+
+
+def check_out_dir(out_dir) -> Path:
+    """The report folder, refused (exit 2) when it is a file or cannot be a folder."""
+    from ..errors import StudyError
+
+    out = Path(out_dir)
+    for p in (out, *out.parents):
+        if p.exists() and not p.is_dir():
+            raise StudyError("--out", str(out_dir), "a folder (a file of that name is in the way: "
+                             f"{p})")
+    return out
 
 
 def render_all(result, samples: str | None = None) -> dict[str, bytes]:
@@ -48,8 +63,8 @@ def write_report(result, out_dir: str | os.PathLike, samples: str | None = None)
     list of Path
         The files written.
     """
+    out = check_out_dir(out_dir)
     files = render_all(result, samples)
-    out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=".simunc-", dir=out))
     try:
@@ -59,6 +74,9 @@ def write_report(result, out_dir: str | os.PathLike, samples: str | None = None)
         for name in files:
             os.replace(tmp / name, out / name)
             written.append(out / name)
+        for name in REPORT_FILES:
+            if name not in files and (out / name).is_file():
+                (out / name).unlink()
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
     return written

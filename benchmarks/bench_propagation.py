@@ -84,7 +84,7 @@ class Case:
             raise SystemExit("the hand-written model covers mach_from = pressure_ratio and a "
                              "full-scale Mach number, as in the demo study")
         self.gas = (fac.gas.gamma, fac.gas.gas_constant, fac.gas.mu_ref)
-        fs_gas = self.model.full_scale_gas
+        fs_gas = self.model.full_scale_fluid
         self.fs_gas = (fs_gas.gamma, fs_gas.gas_constant, fs_gas.mu_ref)
         self.nominal = dict(self.setpoint.nominal)
         # (target, kind, standard uncertainty, half-width) of each input, in column order.
@@ -259,7 +259,7 @@ def agreement(fw, hw, same_uniforms: bool, trials: int):
     keys = ("mean", "standard_uncertainty", "low", "high")
     worst = max((rel(fs[o][k], hs[o][k]) for o in set(hs) & set(fs) for k in keys), default=0.0)
     conf = max(abs(fc[g] - hc[g]) for g in hc)
-    missing = set(hs) ^ set(fs)
+    missing = set(hs) - set(fs)  # the framework may compute more groups; it must cover these
     if same_uniforms:
         ok = not missing and worst <= 1e-9 and conf <= 2.0 / trials
     else:
@@ -385,7 +385,11 @@ def main(argv=None) -> int:
           f"{rr_mean:.1e}, u rel diff {rr_u:.1e}; worst statistic rel diff {worst:.1e}; "
           f"conformity abs diff {conf:.1e})")
     if missing:
-        print(f"  outputs not in both paths: {sorted(missing)}")
+        print(f"  outputs the framework lacks: {sorted(missing)}")
+    extra = sorted(set(fw[0]) - set(hw[0]))
+    if extra:
+        print(f"  the framework also computes and summarises {len(extra)} more outputs "
+              f"({len(fw[0])} against {len(hw[0])}); they count in its time")
     print(f"target ratio <= {TARGET_RATIO}       {'PASS' if ratio <= TARGET_RATIO else 'FAIL'}")
     print(f"target framework < {TARGET_SECONDS:g} s   "
           f"{'PASS' if best_fw < TARGET_SECONDS else 'FAIL'}"

@@ -155,11 +155,11 @@ class IdealGas:
 _BETA = 1.458e-6
 _S_AIR = 110.4
 
-#: Dry air as in the 1976 U.S. Standard Atmosphere ([1]).  Stated uncertainty: Sutherland's
-#: law against reference air viscosity within about 1 % from 120 K to 500 K at low pressure,
-#: taken as a rectangular +-1 % (u = 0.58 %); density error of the perfect gas is the
-#: compressibility 1 - Z (below 0.3 % up to 10 bar near room temperature) (from memory of
-#: Lemmon et al. 2000 and Lemmon & Jacobsen 2004; see tests/test_fluids for the measured deviation).
+#: Dry air as in the 1976 U.S. Standard Atmosphere ([1]).  Stated uncertainty, from the
+#: deviation measured against CoolProp's reference air (Lemmon et al. 2000 equation of state,
+#: Lemmon & Jacobsen 2004 viscosity) over 250-330 K and 1-10 bar in tests/test_real_gas.py:
+#: density within -0.92 %, viscosity within -1.24 %, speed of sound within -0.39 %, taken as
+#: rectangular limits of +-1 %, +-1.5 % and +-0.5 %.
 AIR = IdealGas(
     name="dry_air",
     gas_constant=8314.32 / 28.9644,
@@ -170,6 +170,6 @@ AIR = IdealGas(
     sutherland_k=194.0,
     description="dry air, perfect gas (gamma = 1.4, R of USSA 1976) with Sutherland viscosity "
                 "(S = 110.4 K)",
-    stated_uncertainty={"density": 0.003 / np.sqrt(3.0), "viscosity": 0.01 / np.sqrt(3.0),
-                        "speed_of_sound": 0.003 / np.sqrt(3.0)},
+    stated_uncertainty={"density": 0.01 / np.sqrt(3.0), "viscosity": 0.015 / np.sqrt(3.0),
+                        "speed_of_sound": 0.005 / np.sqrt(3.0)},
 )

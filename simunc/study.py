@@ -48,7 +48,8 @@ _FACILITY_KEYS = ("name", "gas", "fluid", "stagnation_temperature", "stagnation_
                   "stagnation_pressure", "stagnation_pressure_range", "mach", "mach_range",
                   "mach_from", "speed", "speed_range", "static_pressure", "static_pressure_range",
                   "temperature", "temperature_range", "max_model_reference_length",
-                  "test_section_area", "max_blockage", "max_dynamic_pressure")
+                  "test_section_area", "max_blockage", "max_dynamic_pressure", "humidity")
+_HUMIDITY_KEYS = ("dew_point", "relative_humidity", "at_pressure", "at_temperature")
 _MODEL_KEYS = ("scale", "reference_length", "frequency")
 _BAND_KEYS = ("tolerance", "priority", "solve")
 _CUSTOM_KEYS = ("powers", "tolerance", "priority", "solve")
@@ -297,6 +298,8 @@ def _facility(t: Table) -> Facility:
     if len(kinds) > 1:
         raise StudyError(t.key(key), names, "fluids of one kind (all gases or all liquids)")
     kind = kinds.pop()
+    if t.has("humidity"):
+        fluids = tuple(_humid(t, f) for f in fluids)
     for k in (_LIQUID_ONLY if kind == "gas" else _GAS_ONLY):
         if t.has(k):
             raise StudyError(t.key(k), t.data[k], f"no {k} for a {kind} facility ({names[0]})")
@@ -339,6 +342,30 @@ def _facility(t: Table) -> Facility:
         mach=mach, mach_range=m_range,
         mach_from=t.choice("mach_from", MACH_FROM, default="pressure_ratio"),
     )
+
+
+def _humid(t: Table, fluid: Fluid) -> Fluid:
+    """Moist air with the nominal vapour mole fraction of ``facility.humidity``."""
+    from .fluids import MoistAir
+
+    if not isinstance(fluid, MoistAir):
+        raise StudyError(t.key("humidity"), t.data["humidity"], f"no humidity for {fluid.name} "
+                         "(use gas = 'moist_air')")
+    h = Table(t.data["humidity"], t.key("humidity"), _HUMIDITY_KEYS)
+    p = h.quantity("at_pressure", "pressure", default=t.optional_quantity(
+        "stagnation_pressure", "pressure") or ATMOSPHERIC_PRESSURE)
+    if h.exclusive(("dew_point", "relative_humidity")) == "dew_point":
+        out = MoistAir.from_dew_point(p, h.quantity("dew_point", "temperature"))
+    else:
+        t_ref = h.quantity("at_temperature", "temperature", default=t.optional_quantity(
+            "stagnation_temperature", "temperature") or 293.15)
+        rh = h.number("relative_humidity", low=0.0, high=1.0, allow_percent=True,
+                      what="a relative humidity from 0 to 100 %")
+        out = MoistAir.from_relative_humidity(p, t_ref, rh)
+    if not (0.0 <= out.vapour_mole_fraction < 0.2):
+        raise StudyError(t.key("humidity"), t.data["humidity"], "a humidity the moist-air model "
+                         f"covers (gives a vapour mole fraction {out.vapour_mole_fraction:.3g})")
+    return out
 
 
 def _input(data: Any, index: int, kind: str) -> InputSpec:

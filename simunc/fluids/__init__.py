@@ -2,10 +2,14 @@
 
 from .base import Fluid, GasModel, LiquidModel
 from .ideal_gas import AIR, IdealGas
+from .moist_air import MOIST_AIR, MoistAir
 from .real_gas import AIR_REAL, NITROGEN, CoolPropGas
+from .water import FRESH_WATER, SEA_WATER, FreshWater, SeaWater
 
 #: Fluids a study may name under ``facility.gas`` / ``facility.fluid``, by name.
-FLUIDS: dict[str, Fluid] = {f.name: f for f in (AIR, AIR_REAL, NITROGEN)}
+FLUIDS: dict[str, Fluid] = {f.name: f for f in (AIR, AIR_REAL, NITROGEN, MOIST_AIR, FRESH_WATER,
+                                                  SEA_WATER)}
 
-__all__ = ["Fluid", "GasModel", "LiquidModel", "IdealGas", "CoolPropGas", "AIR", "AIR_REAL",
-           "NITROGEN", "FLUIDS"]
+__all__ = ["Fluid", "GasModel", "LiquidModel", "IdealGas", "CoolPropGas", "MoistAir", "FreshWater",
+           "SeaWater", "AIR", "AIR_REAL", "NITROGEN", "MOIST_AIR", "FRESH_WATER", "SEA_WATER",
+           "FLUIDS"]

@@ -75,9 +75,10 @@ def envelope_map(result) -> bytes:
     if result.test_plan is not None:
         for r in result.test_plan.runs:
             x = r.outputs[f"{env.abscissa}_model"]
-            ax.plot(x, r.outputs["reynolds_model"], marker="s", ms=5, color="#555555", ls="none")
-            ax.annotate(r.label, (x, r.outputs["reynolds_model"]), textcoords="offset points",
-                        xytext=(4, 4), fontsize=7)
+            ax.plot(x, r.outputs["reynolds_model"], marker="s", ms=4, color="#555555", ls="none")
+            if not r.label.startswith("B"):  # the sweep points are left unlabelled
+                ax.annotate(r.label, (x, r.outputs["reynolds_model"]), textcoords="offset points",
+                            xytext=(5, 3), fontsize=8)
     ax.set_yscale("log")
     ax.set_xlabel("Mach number" if env.abscissa == "mach" else "Froude number")
     ax.set_ylabel("Reynolds number")

@@ -110,7 +110,7 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
     Target("sutherland_constant", "temperature_difference", "sutherland",
            "Sutherland-constant deviation of the facility gas (and of full scale when it is the "
            "same gas)", _GAS, "sutherland"),
-    Target("vapour_mole_fraction", "dimensionless", "vapour_mole_fraction",
+    Target("water_vapour_fraction", "dimensionless", "vapour_mole_fraction",
            "water-vapour mole fraction deviation of moist air", _GAS, "vapour_mole_fraction"),
     Target("full_scale_temperature", "temperature_difference", "full_scale_temperature",
            "full-scale static temperature deviation (offset from the stated condition)"),
@@ -327,7 +327,7 @@ class SimilitudeModel:
             ``model_length``, the full-scale condition (``full_scale_static_pressure``,
             ``full_scale_static_temperature``, ``full_scale_speed_or_mach``,
             ``full_scale_length``), optionally ``frequency`` and
-            ``full_scale_frequency``, fluid parameters (e.g. ``sutherland``), and
+            ``full_scale_frequency_nominal``, fluid parameters (e.g. ``sutherland``), and
             any :data:`TARGETS` deviations (floats or arrays of one length, SI);
             absent deviations are 0.
 
@@ -349,8 +349,9 @@ class SimilitudeModel:
         freq = fs_freq = None
         if x.get("frequency") is not None:
             freq = np.asarray(x["frequency"], dtype=float) - d("frequency_indication")
-        if x.get("full_scale_frequency") is not None:
-            fs_freq = np.asarray(x["full_scale_frequency"], dtype=float) + d("full_scale_frequency")
+        if x.get("full_scale_frequency_nominal") is not None:
+            fs_freq = (np.asarray(x["full_scale_frequency_nominal"], dtype=float)
+                       + d("full_scale_frequency"))
 
         out = {
             "dynamic_pressure": 0.5 * fac["rho"] * fac["speed"] ** 2,

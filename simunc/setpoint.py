@@ -188,7 +188,7 @@ def nominal_state(study: Study, fluid=None) -> dict:
                  static_pressure=fac.static_pressure if fac.static_pressure is not None
                  else ATMOSPHERIC_PRESSURE)
     if fs.frequency is not None:
-        x["full_scale_frequency"] = fs.frequency
+        x["full_scale_frequency_nominal"] = fs.frequency
         x["frequency"] = study.model_frequency
     for name in getattr(fluid, "parameters", ()):
         x[name] = getattr(fluid, name)
@@ -250,7 +250,8 @@ def _solve_one(model: SimilitudeModel, base: dict, keys: list[str],
         pkey = "stagnation_pressure" if model.kind == "gas" else None
         for _ in range(5):
             q = float(np.asarray(model(state)["dynamic_pressure"]))
-            if q <= q_max * (1 + 1e-12) or pkey is None or pkey not in keys:
+            if pkey is None or pkey not in keys or abs(q / q_max - 1.0) < 1e-13 or (
+                    q < q_max * (1.0 - 1e-6)):
                 break
             state[pkey] *= q_max / q
     return state, _scalar(model(state))

@@ -368,7 +368,7 @@ def _humid(t: Table, fluid: Fluid) -> Fluid:
     return out
 
 
-def _input(data: Any, index: int, kind: str) -> InputSpec:
+def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> InputSpec:
     t = Table(data, f"uncertain[{index}]", _INPUT_KEYS)
     name = t.text("name", f"input {index + 1}")
     target = t.choice("perturbs", {k: k for k in TARGETS})
@@ -377,7 +377,13 @@ def _input(data: Any, index: int, kind: str) -> InputSpec:
     dist = t.choice("distribution", DISTRIBUTIONS)
     size_kind = t.exclusive(("standard_uncertainty", "expanded_uncertainty", "half_width"))
     dim = TARGETS[target].dimension
-    raw = t.data[size_kind]
+    raw = written = t.data[size_kind]
+    if raw == "stated":
+        prop = {"viscosity_model": "viscosity", "density_model": "density"}.get(target)
+        if size_kind != "standard_uncertainty" or prop is None or fluid is None:
+            raise StudyError(t.key(size_kind), raw, "'stated' only as the standard_uncertainty of "
+                             "viscosity_model or density_model (the fluid's stated uncertainty)")
+        raw = f"{100.0 * float(fluid.stated_uncertainty[prop]):.6g} %"
     relative_ok = TARGETS[target].reading is not None
     size = parse(t.key(size_kind), raw, dim, allow_relative=relative_ok)
     if TARGETS[target].reading is None:
@@ -395,7 +401,8 @@ def _input(data: Any, index: int, kind: str) -> InputSpec:
         raise StudyError(t.key("distribution"), "'normal' with half_width",
                          "'rectangular' or 'triangular' for limits, or standard_uncertainty / "
                          "expanded_uncertainty for a normal distribution")
-    return InputSpec(name, target, dist, size_kind, size, k, str(raw), t.text("note", ""), t.prefix)
+    text = f"stated ({raw})" if written == "stated" else str(raw)
+    return InputSpec(name, target, dist, size_kind, size, k, text, t.text("note", ""), t.prefix)
 
 
 def _band(bt: Table, group: str, fs: FullScale) -> Band:
@@ -560,7 +567,7 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     inputs_raw = data.get("uncertain", [])
     if not isinstance(inputs_raw, list):
         raise StudyError("uncertain", inputs_raw, "an array of tables ([[uncertain]] entries)")
-    inputs = tuple(_input(d, i, fac.kind) for i, d in enumerate(inputs_raw))
+    inputs = tuple(_input(d, i, fac.kind, fac.gas) for i, d in enumerate(inputs_raw))
     names = [i.name for i in inputs]
     for i, n in enumerate(names):
         if names.index(n) != i:

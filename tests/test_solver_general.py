@@ -175,3 +175,18 @@ def test_no_target_shares_a_name_with_a_model_input(name):
 
     study = load_study(ROOT / "studies" / f"{name}.toml")
     assert not set(TARGETS) & set(nominal_state(study))
+
+
+def test_stated_property_uncertainty_as_an_input(demo_dict):
+    from simunc.fluids import AIR
+    from simunc.inputs import build_inputs
+
+    demo_dict["uncertain"] = [{"name": "mu model", "perturbs": "viscosity_model",
+                               "distribution": "normal", "standard_uncertainty": "stated"}]
+    study = parse_study(demo_dict)
+    (inp,) = build_inputs(study.inputs, solve(study))
+    assert inp.standard_uncertainty == pytest.approx(float(AIR.stated_uncertainty["viscosity"]), rel=1e-5)
+    assert inp.spec.text.startswith("stated")
+    demo_dict["uncertain"][0]["perturbs"] = "model_reference_length"
+    with pytest.raises(StudyError, match="'stated' only"):
+        parse_study(demo_dict)

@@ -194,6 +194,13 @@ def build(result) -> list[Block]:
                        "+ control deviation; a size in % is a fraction of the reading at the set point."))
     else:
         b.append(Block("paragraph", "The study has no uncertain inputs."))
+    fluid = next((f for f in fac.fluids if f.name == sp.fluid), fac.gas)
+    stated = ", ".join(f"{k.replace('_', ' ')} {100 * float(v):.3g} %"
+                       for k, v in fluid.stated_uncertainty.items())
+    b.append(Block("paragraph", f"Property model ({fluid.name}): {fluid.description}. Stated "
+                   f"relative standard uncertainty: {stated}. Include it with an input "
+                   "perturbs = \"viscosity_model\" (or \"density_model\") and "
+                   "standard_uncertainty = \"stated\"."))
 
     p = 100 * result.coverage_probability
     b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))

@@ -97,7 +97,8 @@ def parse(key: str, text: object, dimension: str, *, allow_relative: bool = Fals
     Parsed(value=0.0005, relative=True)
     """
     dim, si, example = DIMENSIONS[dimension]
-    expected = f"a {dimension.replace('_', ' ')} such as {example}"
+    noun = "number" if dimension == "dimensionless" else dimension.replace("_", " ")
+    expected = f"a {noun} such as {example}"
     if allow_relative:
         expected += " or a percentage of reading such as '0.05 %'"
     q = _quantity(key, text, expected)

@@ -15,7 +15,7 @@ import pytest
 from simunc.cli import main
 
 DEMO_LINES = {
-    "altitude": 'altitude = "11000 m"            # geometric, International Standard Atmosphere',
+    "altitude": 'altitude = "11000 m"            # geometric, 1976 U.S. Standard Atmosphere',
     "mach": "mach = 0.78",
     "ref": 'reference_length = "3.2 m"      # mean aerodynamic chord',
     "t0": 'stagnation_temperature = "310 K"',

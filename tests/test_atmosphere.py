@@ -261,3 +261,24 @@ def test_temperature_offset_broadcasts():
     assert np.shape(t2) == (3,)
     np.testing.assert_allclose(t2, 255.676 + dt, atol=1.5e-3)  # Table I 5 km, from memory as above
     np.testing.assert_allclose(np.broadcast_to(p2, (3,)), 5.4048e4, rtol=RTOL_5DIGITS)
+
+
+# Upper layers, geometric altitude (from memory of U.S. Standard Atmosphere 1976, Table I; at
+# 40 km the temperature is left out: the value recalled, 251.05 K, is that of 40 km
+# geopotential, so it was not used).
+UPPER_TABLE_I = [
+    (40_000.0, None, 2.8714e2, 3.9957e-3),
+    (50_000.0, 270.65, 7.9779e1, 1.0269e-3),
+    (60_000.0, 247.02, 2.1958e1, 3.0968e-4),
+    (70_000.0, 219.59, 5.2209e0, 8.2829e-5),
+    (80_000.0, 198.64, 1.0524e0, 1.8458e-5),
+]
+
+
+@pytest.mark.parametrize("z, t_ref, p_ref, rho_ref", UPPER_TABLE_I)
+def test_upper_layers_table_i(z, t_ref, p_ref, rho_ref):
+    t, p = standard_state(z)
+    if t_ref is not None:
+        assert float(t) == pytest.approx(t_ref, abs=0.006)
+    assert float(p) == pytest.approx(p_ref, rel=1e-4)
+    assert float(AIR.density(p, t)) == pytest.approx(rho_ref, rel=1e-4)

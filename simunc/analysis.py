@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 
 from .inputs import UncertainInput, build_inputs
+from .lpu import lpu, validate
 from .model import SimilitudeModel, describe_output
 from .propagate import Problem, monte_carlo, summarize
 from .sensitivity import sobol_indices
@@ -47,6 +48,8 @@ class Result:
     envelope: Envelope | None = None
     test_plan: TestPlan | None = None
     pi_groups: list | None = None
+    lpu: object | None = None          # simunc.lpu.LPUResult
+    validation: pd.DataFrame | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -209,5 +212,11 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
     ranking = _ranking(sobol, stats, study, inputs)
     pis = list(study.dimensional_analysis.groups) if study.dimensional_analysis else None
+    guf = validation = None
+    if inputs:
+        varying = [o for o in stats.index if stats.loc[o, "standard_uncertainty"] > 0.0]
+        guf = lpu(problem, varying, coverage_probability=settings.coverage_probability)
+        validation = validate(guf, stats.loc[varying], n_digits=2)
     return Result(study, setpoint, inputs, settings.trials, settings.seed, stats, conf, sobol,
-                  ranking, warnings, x, y, envelope(study, model, setpoint), plan(study, model, setpoint), pis)
+                  ranking, warnings, x, y, envelope(study, model, setpoint), plan(study, model, setpoint),
+                  pis, guf, validation)

@@ -220,6 +220,30 @@ def build(result) -> list[Block]:
     b.append(Block("figure", "reynolds_ratio_histogram.png",
                    caption="Achieved Reynolds-number ratio: trials, tolerance band, coverage interval."))
 
+    if result.validation is not None:
+        b.append(Block("heading", "GUM uncertainty framework against Monte Carlo (JCGM 101, 8)"))
+        keys = [band.output for band in st.bands if band.output in result.validation.index]
+        keys += [k for k in ("reynolds_model", "dynamic_pressure", "speed")
+                 if k in result.validation.index and k not in keys]
+        v, est = result.validation.loc[keys], result.lpu.estimates.loc[keys]
+        tab = pd.DataFrame({"output": keys, "u (LPU)": est["standard_uncertainty"].values,
+                            "u (MC)": result.statistics.loc[keys, "standard_uncertainty"].values,
+                            "GUF low": v["guf_low"].values, "GUF high": v["guf_high"].values,
+                            "MC low": v["mc_low"].values, "MC high": v["mc_high"].values,
+                            "d_low": v["d_low"].values, "d_high": v["d_high"].values,
+                            "delta": v["delta"].values, "validated": v["validated"].values})
+        b.append(Block("paragraph", "Law of propagation of uncertainty (first order, sensitivity "
+                       "coefficients by central differences, the uncertainties package for the "
+                       "covariance algebra) with k from the normal distribution. The GUF interval "
+                       "is validated when both endpoint differences d are at most the numerical "
+                       "tolerance delta of two significant digits of u."))
+        b.append(Block("table", _table(tab)))
+        for k in keys[:2]:
+            bud = result.lpu.budget(k).reset_index()
+            b.append(Block("paragraph", f"Uncertainty budget of **{k}** (LPU):"))
+            b.append(Block("table", _table(bud[["term", "sensitivity", "standard_uncertainty",
+                                                "contribution", "share_percent"]])))
+
     if result.inputs:
         b.append(Block("heading", "Sensitivity (Sobol indices)"))
         b.append(Block("paragraph", f"First-order S1 and total ST indices (SALib, "

@@ -70,6 +70,13 @@ def results_dict(result) -> dict:
         } for i in result.inputs],
         "outputs": outputs,
         "warnings": list(result.warnings),
+        "lpu": None if result.lpu is None else {
+            out: {"value": row["value"], "standard_uncertainty": row["standard_uncertainty"],
+                  "coverage_factor": row["coverage_factor"],
+                  "expanded_uncertainty": row["expanded_uncertainty"],
+                  "interval": [row["low"], row["high"]],
+                  **{k: result.validation.loc[out, k] for k in ("d_low", "d_high", "delta", "validated")}}
+            for out, row in result.lpu.estimates.iterrows()},
         "conformity": {
             "probability": dict(result.conformity),
             "bands": {b.group: {"output": b.output, "centre": b.centre, "tolerance": b.tolerance,

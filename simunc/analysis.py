@@ -20,7 +20,7 @@ import pandas as pd
 from .inputs import UncertainInput, build_inputs
 from .lpu import lpu, validate
 from .model import SimilitudeModel, describe_output
-from .propagate import Problem, monte_carlo, summarize
+from .propagate import Problem, adaptive, propagate
 from .sensitivity import sobol_indices
 from .setpoint import SetPoint, build_model, solve
 from .envelope import Envelope, envelope
@@ -43,8 +43,10 @@ class Result:
     sobol: dict[str, pd.DataFrame]
     ranking: pd.DataFrame
     warnings: list
-    input_values: np.ndarray
-    output_values: dict[str, np.ndarray]
+    input_values: np.ndarray | None        # kept trials (None when the run streamed)
+    output_values: dict[str, np.ndarray] | None
+    preview: np.ndarray                    # Reynolds-number ratio of the first trials
+    engine: object                         # simunc.propagate.PropagationResult
     envelope: Envelope | None = None
     test_plan: TestPlan | None = None
     pi_groups: list | None = None
@@ -56,7 +58,16 @@ class Result:
         return self.study.run.coverage_probability
 
     def samples(self) -> pd.DataFrame:
-        """The trials: input deviations (SI, columns ``input: <name>``) and every output."""
+        """The trials: input deviations (SI, columns ``input: <name>``) and every output.
+
+        Raises
+        ------
+        StudyError
+            When the run streamed its trials (more than :data:`KEEP_LIMIT`).
+        """
+        if self.input_values is None:
+            raise StudyError("--samples", f"{self.trials} trials", f"at most {KEEP_LIMIT} trials "
+                             "with fixed trials (larger runs stream and keep no trials)")
         cols = {f"input: {i.name}": self.input_values[:, j] for j, i in enumerate(self.inputs)}
         cols.update({k: np.asarray(v) for k, v in self.output_values.items()})
         return pd.DataFrame(cols)
@@ -66,7 +77,8 @@ def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
                        inputs: list[UncertainInput]) -> Problem:
     """The similitude model around a set point as a :class:`Problem` of its inputs.
 
-    Inputs acting on the same target add up.
+    Inputs acting on the same target add up; an input with several targets (a shared
+    systematic error) acts on each with its factor.
     """
     nominal = dict(setpoint.nominal)
 
@@ -74,22 +86,28 @@ def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
         deviations: dict[str, np.ndarray] = {}
         for inp in inputs:
             v = x[inp.name]
-            deviations[inp.target] = deviations[inp.target] + v if inp.target in deviations else v
+            for target, factor in inp.effects:  # a shared error acts on each of its targets
+                d = v if factor == 1.0 else factor * v
+                deviations[target] = deviations[target] + d if target in deviations else d
         return model({**nominal, **deviations})
 
     return Problem([i.name for i in inputs], [i.distribution for i in inputs], func)
 
 
+def inside_bands(y: dict[str, np.ndarray], study: Study) -> dict[str, np.ndarray]:
+    """Per matched group, which trials lie inside its tolerance band (and ``all``)."""
+    out, every = {}, None
+    for band in study.bands:
+        inside = np.abs(np.asarray(y[band.output]) - band.centre) <= band.tolerance
+        out[band.group] = inside
+        every = inside if every is None else every & inside
+    out["all"] = every if every is not None else np.ones(len(next(iter(y.values()))), dtype=bool)
+    return out
+
+
 def conformity(y: dict[str, np.ndarray], study: Study) -> dict[str, float]:
     """Probability that each matched group, and all together, lie inside their bands."""
-    inside_all = np.ones(len(next(iter(y.values()))), dtype=bool)
-    out = {}
-    for band in study.bands:
-        inside = np.abs(y[band.output] - band.centre) <= band.tolerance
-        out[band.group] = float(np.mean(inside))
-        inside_all &= inside
-    out["all"] = float(np.mean(inside_all))
-    return out
+    return {g: float(np.mean(v)) for g, v in inside_bands(y, study).items()}
 
 
 def output_order(keys) -> list[str]:
@@ -98,16 +116,6 @@ def output_order(keys) -> list[str]:
         return (0 if k.endswith(("_ratio", "_difference")) else 1 if k.endswith("_model") else
                 2 if k.endswith("_full_scale") else 3)
     return sorted(keys, key=lambda k: (rank(k), list(keys).index(k)))
-
-
-def _statistics(y, setpoint: SetPoint, p: float) -> pd.DataFrame:
-    rows = []
-    for key in output_order(list(y)):
-        unit, label = describe_output(key)
-        s = summarize(y[key], p)
-        rows.append({"output": key, "unit": unit, "nominal": setpoint.outputs[key], **s,
-                     "label": label})
-    return pd.DataFrame(rows).set_index("output")
 
 
 def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
@@ -120,7 +128,7 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
     """
     rows = []
     for inp in inputs:
-        row = {"input": inp.name, "perturbs": inp.target}
+        row = {"input": inp.name, "perturbs": ", ".join(t for t, _ in inp.effects)}
         shares = []
         for band in study.bands:
             st = float(max(sobol[band.output].loc[inp.name, "ST"], 0.0))
@@ -138,44 +146,82 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
     return table.set_index("input")
 
 
-#: Largest memory the trials may take [bytes]; chunked propagation comes with the Monte Carlo engine.
-MEMORY_LIMIT = 12 * 2**30
+#: Up to this many trials every input and output value is kept (exact quantiles, samples file,
+#: LPU validation on the same trials); above it the engine streams in chunks.
+KEEP_LIMIT = 2_000_000
+#: Trials kept for the histogram figure when the run streams.
+PREVIEW = 1_000_000
 
 
-def check_trials(y: dict[str, np.ndarray], model: SimilitudeModel) -> list[str]:
-    """Refuse trials outside the model; return warnings for trials at its edge.
+class TrialMonitor:
+    """Per-chunk bookkeeping of a Monte Carlo run (``on_chunk`` of the engine).
 
-    Raises
-    ------
-    StudyError
-        When some trials give non-finite or non-physical values (the inputs'
-        sizes are too large for the model), or leave the fluid model.
+    Counts the trials inside every tolerance band (conformity), refuses trials
+    outside the model, counts trials at the edge of the subsonic relations and
+    keeps the first :data:`PREVIEW` values of the Reynolds-number ratio for the
+    histogram.
     """
-    n = len(next(iter(y.values())))
-    bad = np.zeros(n, dtype=bool)
-    for v in y.values():
-        bad |= ~np.isfinite(v)
-    reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above the "
-               "stagnation pressure)"] if bad.any() else []
-    for key in ("model_length", "static_pressure", "static_temperature", "density", "viscosity",
-                "speed"):
-        neg = np.asarray(y[key]) <= 0.0
-        if neg.any():
-            reasons.append(f"{np.count_nonzero(neg)} with {key.replace('_', ' ')} <= 0")
-    if not reasons:
-        why = model.fluid.check_state(y["static_pressure"], y["static_temperature"])
-        if why:
-            reasons.append(f"some outside the {model.fluid.name} model ({why})")
-    if reasons:
-        raise StudyError("uncertain", f"sizes that make trials non-physical ({'; '.join(reasons)} "
-                         f"of {n})", "input sizes small enough that every trial is a physical state")
-    warn = []
-    if model.kind == "gas":
-        sonic = np.count_nonzero(np.asarray(y["mach_model"]) >= 1.0)
-        if sonic:
-            warn.append(f"{sonic} of {n} trials ({100 * sonic / n:.3g} %) reach a test-section Mach "
-                        "number of 1 or more, where the subsonic set-point relations stop holding.")
-    return warn
+
+    def __init__(self, study: Study, model: SimilitudeModel) -> None:
+        self.study, self.model = study, model
+        self.n = 0
+        self.inside = {b.group: 0 for b in study.bands} | {"all": 0}
+        self.sonic = 0
+        self.preview: list[np.ndarray] = []
+        self._kept = 0
+
+    def __call__(self, x: np.ndarray, y: dict[str, np.ndarray]) -> None:
+        n = len(next(iter(y.values())))
+        bad = np.zeros(n, dtype=bool)
+        for v in y.values():
+            bad |= ~np.isfinite(v)
+        reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above "
+                   "the stagnation pressure)"] if bad.any() else []
+        for key in ("model_length", "static_pressure", "static_temperature", "density",
+                    "viscosity", "speed"):
+            neg = np.asarray(y[key]) <= 0.0
+            if neg.any():
+                reasons.append(f"{np.count_nonzero(neg)} with {key.replace('_', ' ')} <= 0")
+        if not reasons:
+            why = self.model.fluid.check_state(y["static_pressure"], y["static_temperature"])
+            if why:
+                reasons.append(f"some outside the {self.model.fluid.name} model ({why})")
+        if reasons:
+            raise StudyError("uncertain", f"sizes that make trials non-physical ({'; '.join(reasons)}"
+                             f" of a chunk of {n})", "input sizes small enough that every trial is "
+                             "a physical state")
+        for group, inside in inside_bands(y, self.study).items():
+            self.inside[group] += int(np.count_nonzero(inside))
+        if self.model.kind == "gas":
+            self.sonic += int(np.count_nonzero(np.asarray(y["mach_model"]) >= 1.0))
+        if self._kept < PREVIEW:
+            take = np.asarray(y["reynolds_ratio"])[: PREVIEW - self._kept]
+            self.preview.append(np.array(take))
+            self._kept += len(take)
+        self.n += n
+
+    def conformity(self) -> dict[str, float]:
+        return {g: c / self.n for g, c in self.inside.items()}
+
+    def warnings(self) -> list[str]:
+        if not self.sonic:
+            return []
+        return [f"{self.sonic} of {self.n} trials ({100 * self.sonic / self.n:.3g} %) reach a "
+                "test-section Mach number of 1 or more, where the subsonic set-point relations stop "
+                "holding."]
+
+
+def _engine_statistics(res, setpoint: SetPoint) -> pd.DataFrame:
+    rows = []
+    for key in output_order(list(res.statistics)):
+        st = res.statistics[key]
+        unit, label = describe_output(key)
+        rows.append({"output": key, "unit": unit, "nominal": setpoint.outputs[key], "mean": st.mean,
+                     "standard_uncertainty": st.standard_uncertainty, "low": st.low,
+                     "high": st.high, "shortest_low": st.shortest_low,
+                     "shortest_high": st.shortest_high, "coverage_factor": st.coverage_factor,
+                     "coverage_probability": st.coverage_probability, "label": label})
+    return pd.DataFrame(rows).set_index("output")
 
 
 def run(study: Study, trials: int | None = None, seed: int | None = None) -> Result:
@@ -195,18 +241,34 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
     inputs = build_inputs(study.inputs, setpoint)
     problem = similitude_problem(model, setpoint, inputs)
-    width = len(inputs) + len(model(setpoint.nominal))
-    if settings.trials * width * 8 * 3 > MEMORY_LIMIT:
-        raise StudyError("run.trials", settings.trials, f"at most about "
-                         f"{MEMORY_LIMIT // (width * 24):.3g} trials for this study on this version "
-                         "(it keeps every trial in memory)")
-    x, y = monte_carlo(problem, settings.trials, settings.seed)
-    warnings = check_trials(y, model)
+    monitor = TrialMonitor(study, model)
+    correlation = study.correlation[1] if study.correlation else None
+    p = settings.coverage_probability
+    if settings.adaptive:
+        # Stop on the matched groups (JCGM 101, 7.9), then evaluate every output on the very same
+        # trials: the adaptive run is block for block propagate(h M trials, block size M).
+        probe = adaptive(problem, settings.seed, n_digits=settings.significant_digits,
+                         coverage_probability=p, method=settings.sampling, correlation=correlation,
+                         max_trials=settings.max_trials,
+                         outputs=[b.output for b in study.bands] if inputs else None)
+        res = propagate(problem, probe.trials, settings.seed, method=settings.sampling,
+                        correlation=correlation, keep=probe.trials <= KEEP_LIMIT,
+                        coverage_probability=p, on_chunk=monitor,
+                        block_size=probe.adaptive.batch_size)
+        res = replace(res, adaptive=probe.adaptive)
+    else:
+        res = propagate(problem, settings.trials, settings.seed, method=settings.sampling,
+                        correlation=correlation, keep=settings.trials <= KEEP_LIMIT,
+                        coverage_probability=p, on_chunk=monitor)
+    warnings = monitor.warnings()
     if not setpoint.feasible:
         warnings.append("The set point is not achievable as stated: it violates a facility limit or "
                         "misses a group. Do not run it as it stands; see the set-point section.")
-    stats = _statistics(y, setpoint, settings.coverage_probability)
-    conf = conformity(y, study)
+    if correlation is not None:
+        warnings.append("The study correlates inputs: Sobol indices assume independent inputs, so "
+                        "read the ranking with care.")
+    stats = _engine_statistics(res, setpoint)
+    conf = monitor.conformity()
     outputs = [b.output for b in study.bands]
     sobol = sobol_indices(problem, outputs, settings.sobol_base_samples, settings.seed) if inputs else {
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
@@ -215,8 +277,11 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     guf = validation = None
     if inputs:
         varying = [o for o in stats.index if stats.loc[o, "standard_uncertainty"] > 0.0]
-        guf = lpu(problem, varying, coverage_probability=settings.coverage_probability)
+        dof = {i.name: i.dof for i in inputs}
+        finite = any(np.isfinite(v) for v in dof.values())
+        guf = lpu(problem, varying, coverage_probability=settings.coverage_probability,
+                  dof=dof if finite and correlation is None else None, correlation=correlation)
         validation = validate(guf, stats.loc[varying], n_digits=2)
-    return Result(study, setpoint, inputs, settings.trials, settings.seed, stats, conf, sobol,
-                  ranking, warnings, x, y, envelope(study, model, setpoint), plan(study, model, setpoint),
+    return Result(study, setpoint, inputs, res.trials, settings.seed, stats, conf, sobol,
+                  ranking, warnings, res.x, res.y, np.concatenate(monitor.preview), res, envelope(study, model, setpoint), plan(study, model, setpoint),
                   pis, guf, validation)

@@ -1,15 +1,49 @@
 """Uncertain inputs: study specifications turned into scipy.stats distributions.
 
-A specification names the quantity it perturbs (a :data:`simunc.model.TARGETS`
-key), a distribution and one size in metrology terms (JCGM 100:2008, 4.3):
+A specification (:class:`~simunc.study.InputSpec`) names the quantities it
+perturbs (:data:`simunc.model.TARGETS` keys), a distribution and one size in
+metrology terms; here it becomes a frozen scipy.stats distribution of the
+DEVIATION, of mean zero (no known bias), with its standard uncertainty u (the
+standard deviation of that distribution):
 
-* ``standard_uncertainty`` u;
-* ``expanded_uncertainty`` U with ``coverage_factor`` k, so u = U / k;
-* ``half_width`` a of limits: u = a / sqrt(3) (rectangular), a / sqrt(6)
-  (triangular) (JCGM 100:2008, 4.3.7 and 4.3.9).
+=====================================  ==================================================
+written                                distribution of the deviation, u
+=====================================  ==================================================
+``standard_uncertainty`` u             normal N(0, u²) (or any other family given, with
+                                       that standard deviation)
+``expanded_uncertainty`` U, k          normal: N(0, (U/k)²), u = U / k (JCGM 100 4.3.3);
+                                       with ν degrees of freedom: scaled and shifted t,
+                                       t_ν(0, (U/k)²), u = U/k √(ν/(ν−2))
+                                       (JCGM 101 6.4.9); k from p and ν: k = t_{(1+p)/2,ν}
+``half_width`` a, rectangular          U(−a, a), u = a/√3 (JCGM 100 4.3.7)
+``half_width`` a, triangular           u = a/√6 (JCGM 100 4.3.9)
+``half_width`` a, trapezoidal β        top half-width βa, u² = a²(1+β²)/6 (JCGM 101 6.4.4)
+``half_width`` a, arcsine              U-shaped on [−a, a], u = a/√2 (JCGM 101 6.4.6)
+``accuracy``                           limits a = r·|R| + f·range + c, rectangular
+                                       by default
+``resolution`` δ                       rectangular, a = δ/2, u = δ/√12 (JCGM 100 F.2.2.1)
+``readings`` / ``type_a`` (n, s)       t_{n−1}(0, s²/n), u = s/√n √((n−1)/(n−3))
+                                       (JCGM 101 6.4.9.2, 6.4.9.4; n ≥ 4)
+truncated_normal σ, a                  N(0, σ²) truncated to [−a, a],
+                                       u² = σ²(1 − 2cφ(c)/(2Φ(c)−1)), c = a/σ
+lognormal u_r (relative)               e = R(F − 1), ln F ~ N(−σ²/2, σ²),
+                                       σ² = ln(1 + u_r²): E[F] = 1, so E[e] = 0 and u = R u_r
+=====================================  ==================================================
 
-A size in ``%`` is a fraction of the reading: of the quantity's nominal value
-at the solved set point.  Every distribution has mean zero (no known bias).
+Clause numbers are recalled from the documents (no copy at hand); the tests in
+tests/test_specifications.py check each formula independently.
+
+A size in ``%`` is a fraction of the reading R: the quantity's nominal value at
+the solved set point.  For a lognormal the deviation is taken about the MEAN
+of the multiplicative factor (E[F] = 1), not its median, so that every input
+has mean zero.
+
+One input may act on several quantities (``perturbs = [...]``): a shared
+error.  Its distribution is that of the deviation of the FIRST target, in
+that target's SI unit; :attr:`UncertainInput.effects` lists ``(target,
+factor)`` pairs and a drawn value z acts as ``factor * z`` on each target
+(factor 1 for the first; for a size in % the ratio of the readings, for an
+absolute size of a common dimension 1).
 """
 
 from __future__ import annotations
@@ -17,15 +51,19 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from scipy import stats
+from scipy import special, stats
 
-from .model import TARGETS
 from .errors import StudyError
+from .model import TARGETS
 from .setpoint import SetPoint
 from .study import InputSpec
 
-#: Standard uncertainty of a unit half-width, by distribution.
-_U_PER_HALF_WIDTH = {"rectangular": 1.0 / math.sqrt(3.0), "triangular": 1.0 / math.sqrt(6.0)}
+#: Standard uncertainty of a unit half-width, by distribution (trapezoidal: beta = 1 row of
+#: :func:`u_per_half_width`).
+_U_PER_HALF_WIDTH = {"rectangular": 1.0 / math.sqrt(3.0), "triangular": 1.0 / math.sqrt(6.0),
+                     "arcsine": 1.0 / math.sqrt(2.0)}
+#: Families bounded by +-half-width.
+BOUNDED = ("rectangular", "triangular", "trapezoidal", "arcsine", "truncated_normal")
 
 
 @dataclass(frozen=True)
@@ -36,15 +74,27 @@ class UncertainInput:
     ----------
     name : str
     target : str
-        The :data:`~simunc.model.TARGETS` key it perturbs.
+        The (first) :data:`~simunc.model.TARGETS` key it perturbs.
     distribution : scipy.stats frozen distribution
-        Of the deviation, SI, mean zero.
+        Of the deviation of ``target``, SI, mean zero.
     kind : str
-        ``normal``, ``rectangular`` or ``triangular``.
+        ``normal``, ``t``, ``rectangular``, ``triangular``, ``trapezoidal``, ``arcsine``,
+        ``truncated_normal`` or ``lognormal``.
     standard_uncertainty : float
-        u of the deviation, SI.
+        u of the deviation of ``target``, SI: the standard deviation of ``distribution``.
     spec : InputSpec
         The specification as written.
+    effects : tuple of (str, float)
+        ``(target, factor)`` for every target: a drawn deviation z of ``distribution``
+        acts as ``factor * z`` on that target (``((target, 1.0),)`` for one target).
+    component : str
+        ``systematic`` (fixed over a test) or ``random`` (changes from point to point).
+    dof : float
+        Degrees of freedom (``inf`` for Type B inputs; ``n - 1`` for Type A; ν of a
+        certificate).
+    gum_standard_uncertainty : float
+        The standard uncertainty a law-of-propagation budget (JCGM 100) uses with ``dof``:
+        the scale of a t-distribution (U / k, or s / sqrt(n)), else ``standard_uncertainty``.
     """
 
     name: str
@@ -53,15 +103,168 @@ class UncertainInput:
     kind: str
     standard_uncertainty: float
     spec: InputSpec
+    effects: tuple = ()
+    component: str = "systematic"
+    dof: float = math.inf
+    gum_standard_uncertainty: float | None = None
+
+    def __post_init__(self) -> None:
+        if not self.effects:
+            object.__setattr__(self, "effects", ((self.target, 1.0),))
+        if self.gum_standard_uncertainty is None:
+            object.__setattr__(self, "gum_standard_uncertainty", self.standard_uncertainty)
+
+    @property
+    def targets(self) -> tuple[str, ...]:
+        """Every target it perturbs, ``target`` first."""
+        return tuple(t for t, _ in self.effects)
 
     @property
     def half_width(self) -> float | None:
-        f = _U_PER_HALF_WIDTH.get(self.kind)
-        return self.standard_uncertainty / f if f else None
+        """Half-width of the limits [SI, of ``target``] for a bounded distribution, else None."""
+        if self.kind not in BOUNDED:
+            return None
+        return float(self.distribution.support()[1])
+
+
+def u_per_half_width(kind: str, beta: float | None = None) -> float:
+    """Standard uncertainty of a distribution on [-1, 1] of the bounded families.
+
+    >>> round(u_per_half_width("trapezoidal", 0.5), 12) == round(math.sqrt(1.25 / 6), 12)
+    True
+    """
+    if kind == "trapezoidal":
+        return math.sqrt((1.0 + beta * beta) / 6.0)
+    return _U_PER_HALF_WIDTH[kind]
+
+
+def _bounded(kind: str, a: float, beta: float | None = None):
+    """Frozen distribution of mean 0 on [-a, a] (rectangular, triangular, trapezoidal, arcsine)."""
+    if kind == "rectangular":
+        return stats.uniform(loc=-a, scale=2.0 * a)
+    if kind == "triangular":
+        return stats.triang(c=0.5, loc=-a, scale=2.0 * a)
+    if kind == "trapezoidal":
+        return stats.trapezoid(0.5 * (1.0 - beta), 0.5 * (1.0 + beta), loc=-a, scale=2.0 * a)
+    if kind == "arcsine":
+        return stats.arcsine(loc=-a, scale=2.0 * a)
+    raise ValueError(f"not a bounded family: {kind}")
+
+
+def truncated_normal(sigma: float, limit: float):
+    """Normal N(0, sigma²) truncated to [-limit, limit] (frozen scipy.stats.truncnorm)."""
+    c = limit / sigma
+    return stats.truncnorm(-c, c, loc=0.0, scale=sigma)
+
+
+def truncated_normal_std(sigma: float, limit: float) -> float:
+    """Standard deviation of N(0, sigma²) truncated to [-limit, limit].
+
+    u² = sigma² (1 - 2 c phi(c) / (2 Phi(c) - 1)), c = limit / sigma (the moments of
+    the doubly truncated normal).
+
+    >>> round(truncated_normal_std(1.0, 50.0), 12)
+    1.0
+    """
+    c = limit / sigma
+    mass = float(special.erf(c / math.sqrt(2.0)))  # 2 Phi(c) - 1 without cancellation
+    phi = math.exp(-0.5 * c * c) / math.sqrt(2.0 * math.pi)
+    return sigma * math.sqrt(1.0 - 2.0 * c * phi / mass)
+
+
+def lognormal(u_relative: float, reading: float = 1.0):
+    """Deviation e = R (F - 1) of a multiplicative factor F with E[F] = 1, u(F) = u_relative.
+
+    ln F ~ N(-s²/2, s²), s² = ln(1 + u_relative²); e has mean 0, standard deviation
+    R u_relative and is bounded below by -R (the quantity stays positive).
+
+    >>> d = lognormal(0.1, 2.0)
+    >>> round(float(d.mean()), 12) + 0.0, round(float(d.std()), 12)
+    (0.0, 0.2)
+    """
+    s = math.sqrt(math.log1p(u_relative * u_relative))
+    return stats.lognorm(s, loc=-reading, scale=reading * math.exp(-0.5 * s * s))
+
+
+def make_distribution(kind: str, u: float, *, beta: float | None = None, dof: float = math.inf):
+    """Frozen scipy.stats distribution of mean 0 and standard deviation ``u``.
+
+    ``kind`` is ``normal``, ``t`` (with ``dof`` > 2), ``rectangular``, ``triangular``,
+    ``trapezoidal`` (with ``beta``), ``arcsine`` or ``lognormal`` (``u`` relative, about
+    a reading of 1).  A truncated normal is made by :func:`truncated_normal`.
+
+    >>> round(float(make_distribution("rectangular", 1.0).std()), 12)
+    1.0
+    >>> round(float(make_distribution("t", 1.0, dof=5).std()), 12)
+    1.0
+    """
+    if kind == "normal" and math.isinf(dof):
+        return stats.norm(loc=0.0, scale=u)
+    if kind in ("normal", "t"):
+        return stats.t(dof, loc=0.0, scale=u * math.sqrt((dof - 2.0) / dof))
+    if kind == "lognormal":
+        return lognormal(u)
+    return _bounded(kind, u / u_per_half_width(kind, beta), beta)
+
+
+def resolved_size(spec: InputSpec, reading: float | None, value=None) -> float:
+    """The spec's size [SI] at a reading: ``%`` of reading resolved, the fixed part added."""
+    parsed = spec.size if value is None else value
+    size = parsed.value
+    if parsed.relative and reading is not None:
+        size *= abs(reading)
+    return size + (spec.fixed if value is None else 0.0)
+
+
+def assign(spec: InputSpec, reading: float | None):
+    """Distribution of the deviation for one target at its reading.
+
+    Returns
+    -------
+    kind : str
+    distribution : frozen scipy.stats distribution (mean 0, SI)
+    u : float
+        Its standard deviation, from the closed forms in the module docstring.
+    u_gum : float
+        The scale of a t-distribution (U / k or s / sqrt(n)); u otherwise.
+    """
+    size = resolved_size(spec, reading)
+    dist, nu = spec.distribution, spec.dof
+    if not (math.isfinite(size) and size > 0.0):
+        raise StudyError(f"{spec.key}.perturbs", f"{spec.text} at a reading of {reading!r}",
+                         "a size greater than zero at the set point (a % of a zero reading is "
+                         "zero)")
+    if spec.size_kind == "expanded_uncertainty" and dist == "normal":
+        size /= spec.coverage_factor  # the scale U / k of the normal or t-distribution
+    elif spec.size_kind == "expanded_uncertainty":
+        size /= spec.coverage_factor  # u of the bounded distribution
+        return dist, make_distribution(dist, size, beta=spec.beta), size, size
+    if spec.size_kind == "resolution":
+        a = 0.5 * size
+        return dist, _bounded(dist, a), a / math.sqrt(3.0), a / math.sqrt(3.0)
+    if dist == "truncated_normal":
+        limit = resolved_size(spec, reading, spec.limit)
+        u = truncated_normal_std(size, limit)
+        return dist, truncated_normal(size, limit), u, u
+    if dist == "lognormal":
+        r = 1.0 if reading is None or TARGETS[spec.target].reading is None else abs(reading)
+        if not r > 0.0:
+            raise StudyError(f"{spec.key}.perturbs", repr(spec.target), "a quantity whose "
+                             "reading is above zero for a lognormal error")
+        u_rel = spec.size.value
+        return dist, lognormal(u_rel, r), r * u_rel, r * u_rel
+    if dist == "normal":
+        if math.isinf(nu):
+            return "normal", stats.norm(loc=0.0, scale=size), size, size
+        return "t", stats.t(nu, loc=0.0, scale=size), size * math.sqrt(nu / (nu - 2.0)), size
+    if spec.size_kind in ("half_width", "accuracy"):
+        u = size * u_per_half_width(dist, spec.beta)
+        return dist, _bounded(dist, size, spec.beta), u, u
+    return dist, make_distribution(dist, size, beta=spec.beta), size, size  # u of the family
 
 
 def standard_uncertainty(spec: InputSpec, reading: float | None) -> float:
-    """Standard uncertainty [SI] of a specification at a reading.
+    """Standard uncertainty [SI] of a specification at a reading (of its first target).
 
     >>> from simunc.units import Parsed
     >>> s = InputSpec("p0", "stagnation_pressure_indication", "normal", "expanded_uncertainty",
@@ -69,40 +272,34 @@ def standard_uncertainty(spec: InputSpec, reading: float | None) -> float:
     >>> standard_uncertainty(s, 250_000.0)   # U = 0.1 % of 2.5 bar at k = 2
     125.0
     """
-    size = spec.size.value
-    if spec.size.relative and reading is not None:
-        size *= abs(reading)
-    if spec.size_kind == "expanded_uncertainty":
-        return size / spec.coverage_factor
-    if spec.size_kind == "half_width":
-        return size * _U_PER_HALF_WIDTH[spec.distribution]
-    return size
-
-
-def make_distribution(kind: str, u: float):
-    """Frozen scipy.stats distribution of mean 0 and standard deviation ``u``.
-
-    >>> round(float(make_distribution("rectangular", 1.0).std()), 12)
-    1.0
-    """
-    if kind == "normal":
-        return stats.norm(loc=0.0, scale=u)
-    a = u / _U_PER_HALF_WIDTH[kind]
-    if kind == "rectangular":
-        return stats.uniform(loc=-a, scale=2.0 * a)
-    return stats.triang(c=0.5, loc=-a, scale=2.0 * a)
+    return assign(spec, reading)[2]
 
 
 def build_inputs(specs, setpoint: SetPoint) -> list[UncertainInput]:
-    """Tie specifications to the solved set point (resolving ``%`` of reading)."""
+    """Tie specifications to the solved set point (resolving ``%`` of reading).
+
+    One :class:`UncertainInput` per specification; for a list in ``perturbs``,
+    ``effects`` holds each target with the ratio of its size to the first one's.
+    """
     out = []
     for spec in specs:
-        reading_key = TARGETS[spec.target].reading
-        if reading_key and reading_key not in setpoint.outputs:
-            raise StudyError(f"{spec.key}.perturbs", repr(spec.target),
-                             f"a quantity this study has (no {reading_key.replace('_', ' ')} here)")
-        reading = setpoint.outputs[reading_key] if reading_key else None
-        u = standard_uncertainty(spec, reading)
-        out.append(UncertainInput(spec.name, spec.target, make_distribution(spec.distribution, u),
-                                  spec.distribution, u, spec))
+        readings = []
+        for target in spec.targets:
+            reading_key = TARGETS[target].reading
+            if reading_key and reading_key not in setpoint.outputs:
+                raise StudyError(f"{spec.key}.perturbs", repr(target),
+                                 f"a quantity this study has (no {reading_key.replace('_', ' ')} "
+                                 "here)")
+            readings.append(setpoint.outputs[reading_key] if reading_key else None)
+        kind, dist, u, u_gum = assign(spec, readings[0])
+        first = resolved_size(spec, readings[0])
+        effects = [(spec.target, 1.0)]
+        for target, reading in zip(spec.targets[1:], readings[1:]):
+            size = resolved_size(spec, reading)
+            if not (math.isfinite(size) and size > 0.0):
+                raise StudyError(f"{spec.key}.perturbs", f"{spec.text} at a reading of {reading!r} "
+                                 f"of {target}", "a size greater than zero at the set point")
+            effects.append((target, size / first))
+        out.append(UncertainInput(spec.name, spec.target, dist, kind, u, spec, tuple(effects),
+                                  spec.component, spec.dof, u_gum))
     return out

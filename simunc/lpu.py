@@ -51,6 +51,7 @@ import uncertainties
 from scipy import stats
 
 from .propagate import Problem
+from .statistics import numerical_tolerance
 
 #: Central-difference step of each input, as a fraction of its standard uncertainty.
 DEFAULT_STEP = 1e-2
@@ -147,37 +148,6 @@ def welch_satterthwaite(components, dof, combined_uncertainty: float | None = No
     if denominator == 0.0:
         return math.inf
     return var**2 / denominator
-
-
-def numerical_tolerance(u: float, n_digits: int = 2) -> float:
-    """Numerical tolerance delta of a standard uncertainty (JCGM 101:2008, 7.9.2).
-
-    Write ``u = c x 10^l`` with ``c`` an integer of ``n_digits`` decimal digits
-    and ``l`` an integer; then ``delta = 10^l / 2`` [unit of u].
-
-    Examples
-    --------
-    Hand calculations: 2.0 = 20 x 10^-1, 0.028 = 28 x 10^-3, 10.15 = 1 x 10^1
-    (one digit) and 9.96 = 10 x 10^0 (two digits after rounding):
-
-    >>> numerical_tolerance(2.0, 2), numerical_tolerance(2.0, 1)
-    (0.05, 0.5)
-    >>> numerical_tolerance(0.028, 2)
-    0.0005
-    >>> numerical_tolerance(10.15, 1), numerical_tolerance(9.96, 2)
-    (5.0, 0.5)
-    """
-    n = int(n_digits)
-    if n < 1:
-        raise ValueError(f"n_digits must be at least 1, got {n_digits}")
-    u = float(u)
-    if not math.isfinite(u) or u < 0.0:
-        raise ValueError(f"standard uncertainty must be finite and non-negative, got {u}")
-    if u == 0.0:
-        return 0.0
-    # Decimal rounding to n significant digits by the formatter: 9.96 -> "1.0e+01".
-    exponent = int(f"{u:.{n - 1}e}".split("e")[1])
-    return 0.5 * 10.0 ** (exponent - n + 1)
 
 
 def _moments(problem: Problem) -> tuple[np.ndarray, np.ndarray]:

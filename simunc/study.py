@@ -8,22 +8,42 @@ reference of keys is in the README ("Study-file reference").
 
 from __future__ import annotations
 
+import difflib
 import hashlib
 import math
+import statistics
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
+
+import numpy as np
 
 from . import atmosphere
 from .errors import StudyError
 from .fluids import AIR, FLUIDS, Fluid
 from .model import GRAVITY, GROUPS, QUANTITIES, TARGETS, CustomGroup, output_key
 from .study_table import Table, check_finite
-from .units import Parsed, parse, ureg
+from .units import DIMENSIONS, Parsed, parse, to_si, ureg
 
 DISTRIBUTIONS = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
-                 "uniform": "rectangular", "triangular": "triangular"}
+                 "uniform": "rectangular", "triangular": "triangular",
+                 "trapezoidal": "trapezoidal", "trapezoid": "trapezoidal", "arcsine": "arcsine",
+                 "u_shaped": "arcsine", "truncated_normal": "truncated_normal",
+                 "lognormal": "lognormal"}
+#: Ways of writing the size of an input -> the distributions each accepts (the first is the
+#: default when ``distribution`` is not given).
+SIZE_DISTRIBUTIONS = {
+    "standard_uncertainty": ("normal", "rectangular", "triangular", "trapezoidal", "arcsine",
+                             "lognormal", "truncated_normal"),
+    "expanded_uncertainty": ("normal", "rectangular", "triangular", "trapezoidal", "arcsine"),
+    "half_width": ("rectangular", "triangular", "trapezoidal", "arcsine", "truncated_normal"),
+    "accuracy": ("rectangular", "triangular", "trapezoidal", "arcsine"),
+    "resolution": ("rectangular",),
+    "readings": ("normal",),
+    "type_a": ("normal",),
+}
+COMPONENTS = ("systematic", "random")
 MACH_FROM = ("pressure_ratio", "indication")
 ATMOSPHERIC_PRESSURE = 101_325.0  # Pa, standard atmosphere (ISO 2533)
 
@@ -40,7 +60,7 @@ SOLVE_NAMES = {
 DEFAULT_PRIORITY = {"mach": 1, "froude": 1}
 
 _ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
-              "run", "dimensional_analysis")
+              "correlations", "run", "dimensional_analysis")
 _FULL_SCALE_KEYS = ("fluid", "altitude", "pressure_altitude", "temperature_offset",
                     "static_pressure", "static_temperature", "depth", "mach", "speed",
                     "reference_length", "frequency", "frontal_area")
@@ -53,9 +73,16 @@ _HUMIDITY_KEYS = ("dew_point", "relative_humidity", "at_pressure", "at_temperatu
 _MODEL_KEYS = ("scale", "reference_length", "frequency")
 _BAND_KEYS = ("tolerance", "priority", "solve")
 _CUSTOM_KEYS = ("powers", "tolerance", "priority", "solve")
-_INPUT_KEYS = ("name", "perturbs", "distribution", "standard_uncertainty", "expanded_uncertainty",
-               "coverage_factor", "half_width", "note")
-_RUN_KEYS = ("trials", "seed", "coverage_probability", "sobol_base_samples")
+_SIZE_KEYS = ("standard_uncertainty", "expanded_uncertainty", "half_width", "accuracy",
+              "resolution", "readings", "type_a")
+_INPUT_KEYS = ("name", "perturbs", "distribution") + _SIZE_KEYS + (
+    "coverage_factor", "coverage_probability", "degrees_of_freedom", "beta", "component", "note")
+_ACCURACY_KEYS = ("reading", "full_scale", "range", "absolute")
+_TYPE_A_KEYS = ("mean", "standard_deviation", "count")
+_CORRELATION_KEYS = ("pairs",)
+_RUN_KEYS = ("trials", "seed", "coverage_probability", "sobol_base_samples", "sampling",
+             "significant_digits", "max_trials")
+SAMPLING = ("random", "lhs", "sobol")
 _DIM_KEYS = ("variables", "repeating")
 
 
@@ -140,25 +167,92 @@ class Band:
 
 @dataclass(frozen=True)
 class InputSpec:
-    """One uncertain input as written (sizes parsed, not yet tied to a set point)."""
+    """One uncertain input as written (sizes parsed, not yet tied to a set point).
+
+    :func:`simunc.inputs.build_inputs` resolves it at the solved set point: a
+    size with ``relative=True`` is a fraction of each target's reading there.
+
+    Attributes
+    ----------
+    name, key : str
+        Label, and the study key prefix (``uncertain[i]``) for messages.
+    target : str
+        The first (usually the only) :data:`~simunc.model.TARGETS` key it perturbs.
+    distribution : str
+        ``normal``, ``rectangular``, ``triangular``, ``trapezoidal``, ``arcsine``,
+        ``truncated_normal`` or ``lognormal``; ``normal`` with a finite ``dof`` is a
+        scaled and shifted t-distribution.
+    size_kind : str
+        How the size was written: ``standard_uncertainty``, ``expanded_uncertainty``,
+        ``half_width``, ``accuracy``, ``resolution`` or ``type_a`` (also for ``readings``).
+    size : Parsed
+        The size: u; U; the half-width a; the %-of-reading part of an accuracy
+        (its half-width is ``size + fixed``); the resolution (half-width = size / 2);
+        s / sqrt(n) of a Type A evaluation (the scale of the t-distribution).
+        For ``truncated_normal``: the standard deviation of the normal before truncation.
+    coverage_factor : float
+        k of an expanded uncertainty (computed from ``coverage_probability`` when
+        that was given); 1 otherwise.
+    text, note : str
+        The size as written (for reports), and the note.
+    targets : tuple of str
+        Every target, ``target`` first.  Filled with ``(target,)`` when not given.
+    component : str
+        ``systematic`` (fixed over a test) or ``random`` (changes from point to point).
+    dof : float
+        Degrees of freedom: of the t-distribution (``n - 1`` for Type A, the stated
+        value for an expanded uncertainty), ``inf`` otherwise.
+    beta : float or None
+        Trapezoid: ratio of the top to the bottom half-width.
+    limit : Parsed or None
+        Truncated normal: the half-width of the truncation.
+    fixed : float
+        Absolute part [SI] added to the size after the %-of-reading part is resolved
+        (accuracy: full_scale x range + absolute).
+    count : int or None
+        Number of readings of a Type A evaluation.
+    coverage_probability : float or None
+        As written with an expanded uncertainty.
+    """
 
     name: str
     target: str
     distribution: str
-    size_kind: str  # "standard_uncertainty", "expanded_uncertainty" or "half_width"
+    size_kind: str
     size: Parsed
     coverage_factor: float
     text: str
     note: str
     key: str
+    targets: tuple = ()
+    component: str = "systematic"
+    dof: float = math.inf
+    beta: float | None = None
+    limit: Parsed | None = None
+    fixed: float = 0.0
+    count: int | None = None
+    coverage_probability: float | None = None
+
+    def __post_init__(self) -> None:
+        if not self.targets:
+            object.__setattr__(self, "targets", (self.target,))
 
 
 @dataclass(frozen=True)
 class RunSettings:
-    trials: int = 200_000
+    """Monte Carlo settings: a fixed number of trials, or adaptive (``trials = None``)."""
+
+    trials: int | None = None
     seed: int = 1
     coverage_probability: float = 0.95
     sobol_base_samples: int = 4096
+    sampling: str = "random"
+    significant_digits: int = 2
+    max_trials: int = 10_000_000
+
+    @property
+    def adaptive(self) -> bool:
+        return self.trials is None
 
 
 @dataclass(frozen=True)
@@ -188,6 +282,9 @@ class Study:
     model_frequency: float | None = None
     custom_groups: tuple = ()
     dimensional_analysis: DimensionalAnalysis | None = None
+    #: None, or (input names in [[uncertain]] order, their correlation matrix): see
+    #: ``[correlations]`` in the README.
+    correlation: tuple | None = field(default=None, compare=False)
     path: str = ""
     sha256: str = ""
     raw: dict = field(default_factory=dict, repr=False, compare=False)
@@ -368,41 +465,345 @@ def _humid(t: Table, fluid: Fluid) -> Fluid:
     return out
 
 
+def _targets(t: Table, kind: str) -> tuple[str, ...]:
+    """``perturbs``: one target name or a list of distinct ones, all of this facility kind."""
+    raw = t.require("perturbs", "the quantity (or list of quantities) the input acts on")
+    options = {k: k for k in TARGETS}
+    if isinstance(raw, list):
+        if not raw:
+            raise StudyError(t.key("perturbs"), raw, "a quantity name or a non-empty list of them")
+        names = []
+        for j, item in enumerate(raw):
+            sub = f"perturbs[{j}]"
+            name = Table({sub: item}, t.prefix, (sub,)).choice(sub, options)
+            if name in names:
+                raise StudyError(t.key(sub), repr(name), "each quantity once in the list")
+            names.append(name)
+        keyed = [(t.key(f"perturbs[{j}]"), n) for j, n in enumerate(names)]
+    else:
+        names = [t.choice("perturbs", options)]
+        keyed = [(t.key("perturbs"), names[0])]
+    for key, name in keyed:
+        if kind not in TARGETS[name].modes:
+            raise StudyError(key, repr(name), f"a quantity of a {kind} facility")
+    return tuple(names)
+
+
+def _size(t: Table, name: str, raw: Any, targets: tuple, *, relative: bool = True,
+          zero_ok: bool = False, key: str | None = None) -> Parsed:
+    """A size in the targets' common dimension, or (``relative``) a fraction of each reading.
+
+    Targets whose size is itself a fraction (no reading) take a plain number or ``%``.
+    """
+    key = key or t.key(name)
+    dims = {TARGETS[x].dimension for x in targets}
+    has_reading = [TARGETS[x].reading is not None for x in targets]
+    size = parse(key, raw, TARGETS[targets[0]].dimension,
+                 allow_relative=relative and any(has_reading))
+    if not any(has_reading):
+        size = Parsed(size.value, True)
+    check_finite(key, raw, size.value)
+    if size.value < 0.0 or (size.value == 0.0 and not zero_ok):
+        raise StudyError(key, raw, "a size of zero or more" if zero_ok else
+                         "an uncertainty greater than zero")
+    if len(dims) > 1 and not size.relative:
+        raise StudyError(key, raw, "a size in % of each reading (the quantities in perturbs have "
+                         "different dimensions: " + ", ".join(sorted(dims)) + ")")
+    return size
+
+
+def _reading_dimension(target: str) -> str:
+    """Dimension of a reading of the quantity (a temperature, not a temperature difference)."""
+    dim = TARGETS[target].dimension
+    return "temperature" if dim == "temperature_difference" else dim
+
+
+def _degrees_of_freedom(t: Table) -> float:
+    raw = t.data["degrees_of_freedom"]
+    what = "degrees of freedom above 2 (a t-distribution with 2 or fewer has no variance), or 'inf'"
+    if isinstance(raw, str) and raw.strip().lower() in ("inf", "infinity", "∞"):
+        return math.inf
+    if isinstance(raw, float) and math.isinf(raw) and raw > 0:
+        return math.inf
+    nu = t.number("degrees_of_freedom", what=what)
+    if not nu > 2.0:
+        raise StudyError(t.key("degrees_of_freedom"), raw, what)
+    return nu
+
+
+def _coverage_factor(t: Table, dist: str, beta: float | None) -> tuple[float, float, float | None]:
+    """k, degrees of freedom and the coverage probability (as written) of an expanded uncertainty.
+
+    With ``coverage_probability`` p: for a normal distribution k = t_{(1+p)/2, nu}, the
+    (1+p)/2 quantile of the t-distribution with nu degrees of freedom (the normal one for
+    nu = inf) (JCGM 100:2008 G.3.4); for a bounded distribution k is the (1+p)/2 quantile
+    of that distribution scaled to a standard deviation of 1.
+    """
+    how = t.exclusive(("coverage_factor", "coverage_probability"))
+    if t.has("degrees_of_freedom") and dist != "normal":
+        raise StudyError(t.key("degrees_of_freedom"), t.data["degrees_of_freedom"],
+                         "degrees of freedom only with a normal distribution (they make it a "
+                         "t-distribution)")
+    nu = _degrees_of_freedom(t) if t.has("degrees_of_freedom") else math.inf
+    if how == "coverage_factor":
+        k = t.number("coverage_factor", low=0.0, low_open=True, what="a coverage factor k > 0")
+        return k, nu, None
+    bounded = dist != "normal"
+    p = t.number("coverage_probability", low=0.0, high=1.0, low_open=True, high_open=not bounded,
+                 allow_percent=True, what="a probability above 0 and " + (
+                     "at most 1 (100 %)" if bounded else "below 1") + ", e.g. '95 %'")
+    if not bounded and not t.has("degrees_of_freedom"):
+        t.require("degrees_of_freedom", "with coverage_probability: the effective degrees of "
+                  "freedom of the certificate, or 'inf' for a normal distribution")
+    from scipy import special
+
+    from .inputs import make_distribution
+
+    q = 0.5 * (1.0 + p)
+    if bounded:
+        k = float(make_distribution(dist, 1.0, beta=beta).ppf(q))
+    else:
+        k = float(special.ndtri(q)) if math.isinf(nu) else float(special.stdtrit(nu, q))
+    return k, nu, p
+
+
+def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str]:
+    """``accuracy``: limits +-(reading x R + full_scale x range + absolute)."""
+    if any(TARGETS[x].reading is None for x in targets):
+        raise StudyError(t.key("accuracy"), t.data["accuracy"], "an accuracy only for an "
+                         "instrument quantity with a reading (this size is itself a fraction: "
+                         "give half_width)")
+    at = Table(t.data["accuracy"], t.key("accuracy"), _ACCURACY_KEYS)
+
+    def fraction(name: str) -> float:
+        if not at.has(name):
+            return 0.0
+        raw = at.data[name]
+        v = parse(at.key(name), raw, "dimensionless", allow_relative=True).value
+        check_finite(at.key(name), raw, v)
+        if v < 0.0:
+            raise StudyError(at.key(name), raw, "a percentage of zero or more, e.g. '0.05 %'")
+        return v
+
+    reading, full_scale = fraction("reading"), fraction("full_scale")
+    dims = {TARGETS[x].dimension for x in targets}
+    words = [f"{at.data['reading']} of reading"] if at.has("reading") else []
+    fixed = 0.0
+    if at.has("full_scale"):
+        at.require("range", "the instrument's full-scale range, e.g. '10 bar' or "
+                   "['-1 bar', '1 bar'], needed with full_scale")
+        raw = at.data["range"]
+        dim = TARGETS[targets[0]].dimension
+        if isinstance(raw, list):
+            if len(raw) != 2:
+                raise StudyError(at.key("range"), raw,
+                                 "a span such as '10 bar' or a list [low, high]")
+            lo, hi = (to_si(f"{at.key('range')}[{i}]", v, _reading_dimension(targets[0]))
+                      for i, v in enumerate(raw))
+            span = hi - lo
+        else:
+            span = to_si(at.key("range"), raw, dim)
+        check_finite(at.key("range"), raw, span)
+        if not span > 0.0:
+            raise StudyError(at.key("range"), raw, "a range greater than zero (high > low)")
+        fixed += full_scale * span
+        words.append(f"{at.data['full_scale']} of " + (f"{raw[0]} to {raw[1]}" if isinstance(
+            raw, list) else str(raw)))
+    elif at.has("range"):
+        raise StudyError(at.key("range"), at.data["range"], "a range only with full_scale")
+    if at.has("absolute"):
+        absolute = _size(at, "absolute", at.data["absolute"], targets, relative=False, zero_ok=True)
+        fixed += absolute.value
+        words.append(str(at.data["absolute"]))
+    if fixed > 0.0 and len(dims) > 1:
+        raise StudyError(at.key("full_scale" if at.has("full_scale") else "absolute"),
+                         at.data.get("full_scale", at.data.get("absolute")),
+                         "only a % of reading when the quantities in perturbs have different "
+                         "dimensions (" + ", ".join(sorted(dims)) + ")")
+    if reading == 0.0 and fixed == 0.0:
+        raise StudyError(at.key("reading"), at.data or "nothing", "at least one term above zero: "
+                         "reading, full_scale (with range) or absolute")
+    return Parsed(reading, True), fixed, "±(" + " + ".join(words) + ")"
+
+
+def _type_a(t: Table, size_kind: str, targets: tuple) -> tuple[Parsed, int, str]:
+    """Type A evaluation: s / sqrt(n) with n readings (JCGM 100:2008 4.2; JCGM 101:2008 6.4.9)."""
+    why = ("at least 4 readings: the t-distribution with n - 1 degrees of freedom has a variance "
+           "only for n > 3 (JCGM 101:2008 6.4.9.4)")
+    dim = _reading_dimension(targets[0])
+    if size_kind == "readings":
+        raw = t.data["readings"]
+        if not isinstance(raw, list):
+            raise StudyError(t.key("readings"), raw, "a list of repeated readings")
+        if len(raw) < 4:
+            raise StudyError(t.key("readings"), raw, why)
+        if len({TARGETS[x].dimension for x in targets}) > 1:
+            raise StudyError(t.key("readings"), raw, "readings of quantities of one dimension")
+        values = []
+        for j, v in enumerate(raw):
+            key = f"{t.key('readings')}[{j}]"
+            plain = isinstance(v, (int, float)) and not isinstance(v, bool)
+            x = float(v) if plain else to_si(key, v, dim)  # a plain number is SI
+            check_finite(key, v, x)
+            values.append(x)
+        s, n = statistics.stdev(values), len(values)
+        if not s > 0.0:
+            raise StudyError(t.key("readings"), raw, "readings that are not all equal (their "
+                             "standard deviation is zero)")
+        unit = DIMENSIONS[dim][1]
+        unit = f" {unit}" if unit else ""
+        text = f"{n} readings, mean {statistics.fmean(values):.9g}{unit}, s = {s:.6g}{unit}"
+        return Parsed(s / math.sqrt(n), False), n, text
+    at = Table(t.data["type_a"], t.key("type_a"), _TYPE_A_KEYS)
+    raw_n = at.require("count", "the number n of readings")
+    if isinstance(raw_n, bool) or not isinstance(raw_n, int) or raw_n < 4:
+        raise StudyError(at.key("count"), raw_n, "a whole number of " + why)
+    s = _size(at, "standard_deviation", at.require("standard_deviation", "the experimental "
+              "standard deviation s of the readings"), targets)
+    text = f"n = {raw_n}, s = {at.data['standard_deviation']}"
+    if at.has("mean"):
+        m = to_si(at.key("mean"), at.data["mean"], dim)
+        check_finite(at.key("mean"), at.data["mean"], m)
+        text += f", mean {at.data['mean']}"
+    return Parsed(s.value / math.sqrt(raw_n), s.relative), raw_n, text
+
+
 def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> InputSpec:
+    """One ``[[uncertain]]`` table -> :class:`InputSpec` (see the README for every key)."""
     t = Table(data, f"uncertain[{index}]", _INPUT_KEYS)
     name = t.text("name", f"input {index + 1}")
-    target = t.choice("perturbs", {k: k for k in TARGETS})
-    if kind not in TARGETS[target].modes:
-        raise StudyError(t.key("perturbs"), repr(target), f"a quantity of a {kind} facility")
-    dist = t.choice("distribution", DISTRIBUTIONS)
-    size_kind = t.exclusive(("standard_uncertainty", "expanded_uncertainty", "half_width"))
-    dim = TARGETS[target].dimension
-    raw = written = t.data[size_kind]
-    if raw == "stated":
-        prop = {"viscosity_model": "viscosity", "density_model": "density"}.get(target)
-        if size_kind != "standard_uncertainty" or prop is None or fluid is None:
-            raise StudyError(t.key(size_kind), raw, "'stated' only as the standard_uncertainty of "
-                             "viscosity_model or density_model (the fluid's stated uncertainty)")
-        raw = f"{100.0 * float(fluid.stated_uncertainty[prop]):.6g} %"
-    relative_ok = TARGETS[target].reading is not None
-    size = parse(t.key(size_kind), raw, dim, allow_relative=relative_ok)
-    if TARGETS[target].reading is None:
-        size = Parsed(size.value, True)
-    check_finite(t.key(size_kind), raw, size.value)
-    if size.value <= 0.0:
-        raise StudyError(t.key(size_kind), raw, "an uncertainty greater than zero")
-    k = 1.0
-    if size_kind == "expanded_uncertainty":
-        k = t.number("coverage_factor", low=0.0, low_open=True, what="a coverage factor k > 0")
-    elif t.has("coverage_factor"):
-        raise StudyError(t.key("coverage_factor"), t.data["coverage_factor"],
-                         "a coverage factor only with expanded_uncertainty")
-    if size_kind == "half_width" and dist == "normal":
-        raise StudyError(t.key("distribution"), "'normal' with half_width",
-                         "'rectangular' or 'triangular' for limits, or standard_uncertainty / "
-                         "expanded_uncertainty for a normal distribution")
-    text = f"stated ({raw})" if written == "stated" else str(raw)
-    return InputSpec(name, target, dist, size_kind, size, k, text, t.text("note", ""), t.prefix)
+    targets = _targets(t, kind)
+    target = targets[0]
+    present = [k for k in _SIZE_KEYS if t.has(k)]
+    if t.has("distribution") and t.choice("distribution", DISTRIBUTIONS) == "truncated_normal":
+        for k in ("standard_uncertainty", "half_width"):
+            t.require(k, "a truncated normal takes standard_uncertainty (of the normal before "
+                      "truncation) and half_width (where it is truncated)")
+        other = [k for k in present if k not in ("standard_uncertainty", "half_width")]
+        if other:
+            raise StudyError(t.key(other[0]), "with distribution 'truncated_normal'",
+                             "only standard_uncertainty and half_width for a truncated normal")
+        size_kind = "standard_uncertainty"
+    else:
+        size_kind = t.exclusive(_SIZE_KEYS)
+    allowed = SIZE_DISTRIBUTIONS[size_kind]
+    dist = t.choice("distribution", DISTRIBUTIONS, default=allowed[0])
+    if dist not in allowed:
+        hint = {"readings": "repeated readings give a t-distribution (JCGM 101:2008 6.4.9)",
+                "type_a": "repeated readings give a t-distribution (JCGM 101:2008 6.4.9)",
+                "resolution": "a digital resolution gives rectangular limits of half a digit "
+                              "(JCGM 100:2008 F.2.2.1)"}.get(size_kind) or {
+            "normal": "a normal distribution takes standard_uncertainty or expanded_uncertainty",
+            "lognormal": "a lognormal takes a relative standard_uncertainty such as '0.5 %'",
+            "truncated_normal": "a truncated normal takes standard_uncertainty and half_width"
+        }.get(dist, "")
+        raise StudyError(t.key("distribution"), f"{dist!r} with {size_kind}",
+                         " or ".join(repr(d) for d in allowed) + f" with {size_kind}", hint)
+    for k in ("coverage_factor", "coverage_probability", "degrees_of_freedom"):
+        if t.has(k) and size_kind != "expanded_uncertainty":
+            raise StudyError(t.key(k), t.data[k], f"{k} only with expanded_uncertainty")
+    beta = None
+    if dist == "trapezoidal":
+        t.require("beta", "the ratio of the top to the bottom half-width of the trapezoid, 0 to 1")
+        beta = t.number("beta", low=0.0, high=1.0, what="a ratio beta of the top to the bottom "
+                        "half-width from 0 (triangular) to 1 (rectangular)")
+    elif t.has("beta"):
+        raise StudyError(t.key("beta"), t.data["beta"], "beta only with distribution "
+                         "'trapezoidal'")
+    component = t.choice("component", {c: c for c in COMPONENTS}, default="systematic")
+
+    k, nu, p, limit, fixed, count = 1.0, math.inf, None, None, 0.0, None
+    if size_kind == "accuracy":
+        size, fixed, text = _accuracy(t, targets)
+    elif size_kind in ("readings", "type_a"):
+        size, count, text = _type_a(t, size_kind, targets)
+        size_kind, nu = "type_a", float(count - 1)
+    else:
+        raw = written = t.data[size_kind]
+        if raw == "stated":
+            prop = {"viscosity_model": "viscosity", "density_model": "density"}.get(target)
+            if size_kind != "standard_uncertainty" or prop is None or fluid is None or \
+                    len(targets) > 1:
+                raise StudyError(t.key(size_kind), raw, "'stated' only as the standard_uncertainty "
+                                 "of viscosity_model or density_model alone (the fluid's stated "
+                                 "uncertainty)")
+            raw = f"{100.0 * float(fluid.stated_uncertainty[prop]):.6g} %"
+        size = _size(t, size_kind, raw, targets, relative=size_kind != "resolution")
+        text = f"stated ({raw})" if written == "stated" else str(raw)
+        if size_kind == "expanded_uncertainty":
+            k, nu, p = _coverage_factor(t, dist, beta)
+            if p is not None:
+                text += f", p = {t.data['coverage_probability']}"
+            if t.has("degrees_of_freedom"):
+                text += f", ν = {t.data['degrees_of_freedom']}"
+        if dist == "truncated_normal":
+            limit = _size(t, "half_width", t.data["half_width"], targets)
+            if limit.relative != size.relative and len(targets) > 1:
+                raise StudyError(t.key("half_width"), t.data["half_width"], "a half-width in % "
+                                 "when standard_uncertainty is in % and perturbs is a list (or "
+                                 "both in units)")
+            text += f", truncated at ±{t.data['half_width']}"
+    if dist == "lognormal" and not size.relative:
+        raise StudyError(t.key(size_kind), t.data[size_kind], "a relative standard uncertainty "
+                         "such as '0.5 %' for a lognormal (multiplicative) error")
+    if beta is not None:
+        text += f", beta = {beta:g}"
+    return InputSpec(name, target, dist, size_kind, size, k, text, t.text("note", ""), t.prefix,
+                     targets=targets, component=component, dof=nu, beta=beta, limit=limit,
+                     fixed=fixed, count=count, coverage_probability=p)
+
+
+def _correlations(data: Any, names: list[str]) -> tuple | None:
+    """``[correlations] pairs = [[a, b, r], ...]`` -> (names, full correlation matrix) or None.
+
+    Unlisted pairs are uncorrelated.  The matrix must be positive definite (a
+    coefficient of +-1 makes it singular: a fully shared error is one input with
+    a list in ``perturbs``).
+    """
+    t = Table(data, "correlations", _CORRELATION_KEYS)
+    pairs = t.require("pairs", 'a list of ["input A", "input B", r] entries')
+    if not isinstance(pairs, list):
+        raise StudyError(t.key("pairs"), pairs, 'a list of ["input A", "input B", r] entries')
+    if not pairs:
+        return None
+    n = len(names)
+    matrix = np.eye(n)
+    seen: dict[frozenset, int] = {}
+    for j, item in enumerate(pairs):
+        key = f"{t.key('pairs')}[{j}]"
+        if not (isinstance(item, list) and len(item) == 3 and isinstance(item[0], str)
+                and isinstance(item[1], str)):
+            raise StudyError(key, item, 'a list ["input A", "input B", r] of two input names and '
+                             "a correlation coefficient")
+        a, b, r = item
+        for nm in (a, b):
+            if nm not in names:
+                close = difflib.get_close_matches(nm, names, n=1, cutoff=0.5)
+                raise StudyError(key, repr(nm), "the name of an [[uncertain]] input" + (
+                    "" if names else " (the study has none)"),
+                    f"did you mean {close[0]!r}?" if close else "")
+        if a == b:
+            raise StudyError(key, item, "two different inputs (an input is fully correlated with "
+                             "itself)")
+        if isinstance(r, bool) or not isinstance(r, (int, float)) or not math.isfinite(r) or \
+                abs(r) > 1.0:
+            raise StudyError(key, item, "a correlation coefficient r from -1 to 1 as the third "
+                             "entry (a plain number)")
+        pair = frozenset((a, b))
+        if pair in seen:
+            raise StudyError(key, item, f"each pair once (already given in "
+                             f"{t.key('pairs')}[{seen[pair]}])")
+        seen[pair] = j
+        i1, i2 = names.index(a), names.index(b)
+        matrix[i1, i2] = matrix[i2, i1] = float(r)
+    smallest = float(np.linalg.eigvalsh(matrix)[0])
+    if smallest <= 1e-10:
+        raise StudyError("correlations", f"pairs giving a matrix with smallest eigenvalue "
+                         f"{smallest:.3g}", "a positive-definite correlation matrix (the "
+                         "coefficients contradict each other, or one is +-1: for an error shared "
+                         "by several quantities use one input with a list in perturbs)")
+    matrix.setflags(write=False)
+    return tuple(names), matrix
 
 
 def _band(bt: Table, group: str, fs: FullScale) -> Band:
@@ -573,17 +974,23 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
         if names.index(n) != i:
             raise StudyError(f"uncertain[{i}].name", repr(n), "a name not used by another input")
     for i, spec in enumerate(inputs):
-        p = TARGETS[spec.target].parameter
-        if p and not all(p in getattr(f, "parameters", ()) for f in fac.fluids):
-            raise StudyError(f"uncertain[{i}].perturbs", repr(spec.target),
-                             f"a quantity of the facility fluid ({fac.gas.name} has no {p})")
+        for target in spec.targets:
+            p = TARGETS[target].parameter
+            if p and not all(p in getattr(f, "parameters", ()) for f in fac.fluids):
+                raise StudyError(f"uncertain[{i}].perturbs", repr(target),
+                                 f"a quantity of the facility fluid ({fac.gas.name} has no {p})")
+    correlation = _correlations(data["correlations"], names) if "correlations" in data else None
 
     rt = Table(data.get("run", {}), "run", _RUN_KEYS)
     n_sobol = rt.integer("sobol_base_samples", 4096, 64)
     if n_sobol & (n_sobol - 1):
         raise StudyError("run.sobol_base_samples", n_sobol, "a power of two such as 1024 or 4096")
+    fixed = rt.has("trials") and rt.data["trials"] != "adaptive"
     run = RunSettings(
-        trials=rt.integer("trials", 200_000, 100),
+        trials=rt.integer("trials", 0, 100) if fixed else None,
+        sampling=rt.choice("sampling", SAMPLING, default="random"),
+        significant_digits=rt.integer("significant_digits", 2, 1),
+        max_trials=rt.integer("max_trials", 10_000_000, 10_000),
         seed=rt.integer("seed", 1, 0),
         coverage_probability=rt.number("coverage_probability", default=0.95, low=0.0, high=1.0,
                                        low_open=True, high_open=True,
@@ -597,6 +1004,7 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
         full_scale=fs, facility=fac, model_scale=scale, model_reference_length=ref_len,
         solve_for=solve_for, unknowns=unknowns, bands=bands, inputs=inputs, run=run,
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
+        correlation=correlation,
         path=path, sha256=sha256, raw=data,
     )
 

@@ -20,6 +20,31 @@ def test_inverse_cdf_equals_scipy_ppf(dist):
     np.testing.assert_allclose(inverse_cdf(dist, q), dist.ppf(q), rtol=1e-14, atol=1e-14)
 
 
+_NEW_FAMILIES = [
+    stats.trapezoid(0.25, 0.75, loc=-2.0, scale=4.0),
+    stats.trapezoid(0.0, 1.0, loc=-1.0, scale=2.0),
+    stats.trapezoid(0.5, 0.5, loc=-1.0, scale=2.0), stats.trapezoid(0.1, 0.3, loc=2.0, scale=5.0),
+    stats.arcsine(loc=-0.8, scale=1.6),
+    stats.truncnorm(-1.5, 1.5, scale=0.2), stats.truncnorm(-0.2, 0.2, scale=3.0),
+    stats.truncnorm(-8.0, 8.0), stats.truncnorm(-1.0, 3.0, loc=1.0, scale=2.0),
+    stats.truncnorm(1.0, 3.0), stats.truncnorm(-3.0, -1.0),
+    stats.lognorm(0.01, loc=-7.0e5, scale=7.0e5), stats.t(3.0, scale=0.5), stats.t(9.5, loc=1.0),
+]
+
+
+@pytest.mark.parametrize("dist", _NEW_FAMILIES, ids=[
+    "trapezoid", "trapezoid-rectangular", "trapezoid-triangular", "trapezoid-skew", "arcsine",
+    "truncnorm", "truncnorm-narrow", "truncnorm-wide", "truncnorm-skew", "truncnorm-right-tail",
+    "truncnorm-left-tail", "lognormal-deviation", "t3", "t9.5"])
+def test_inverse_cdf_of_the_other_families_equals_scipy_ppf(dist):
+    # Reference: scipy.stats rv_frozen.ppf, to 1e-12 of the distribution's scale, including the
+    # extreme probabilities map_to_inputs keeps (1e-15 and 1 - 1e-15).
+    q = np.concatenate([unit_samples(50_000, 1, 5)[:, 0],
+                        [1e-15, 1e-10, 0.5, 1 - 1e-10, 1 - 1e-15]])
+    scale = dist.kwds.get("scale", 1.0)
+    np.testing.assert_allclose(inverse_cdf(dist, q), dist.ppf(q), rtol=1e-12, atol=1e-12 * scale)
+
+
 @pytest.mark.parametrize("n", [1, 2, 7, 1000, 100_001])
 @pytest.mark.parametrize("probs", [(0.025, 0.975), (0.0, 1.0), (0.5,), (0.005, 0.995)])
 def test_quantiles_equal_numpy(n, probs):

@@ -184,7 +184,8 @@ def build(result) -> list[Block]:
 
     b.append(Block("heading", "Uncertain inputs"))
     if result.inputs:
-        rows = [(i.name, i.target, i.kind, f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"
+        rows = [(i.name, ", ".join(t for t, _ in i.effects), f"{i.kind} ({i.component})",
+                 f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"
                  + (f" (k = {i.spec.coverage_factor:g})" if i.spec.size_kind == "expanded_uncertainty" else ""),
                  i.standard_uncertainty, DIMENSIONS[TARGETS[i.target].dimension][1] or "1")
                 for i in result.inputs]
@@ -207,11 +208,21 @@ def build(result) -> list[Block]:
     s = result.statistics
     tab = pd.DataFrame({"quantity": [describe_output(k)[1] for k in s.index], "unit": s["unit"],
                         "nominal": s["nominal"], "mean": s["mean"], "u": s["standard_uncertainty"],
-                        f"{p:g} % low": s["low"], f"{p:g} % high": s["high"]})
+                        f"{p:g} % low": s["low"], f"{p:g} % high": s["high"],
+                        "shortest low": s["shortest_low"], "shortest high": s["shortest_high"],
+                        "k": s["coverage_factor"]})
     b.append(Block("table", _table(tab.reset_index(drop=True))))
-    b.append(Block("paragraph", f"u is the standard uncertainty; the interval is the "
-                   f"probabilistically symmetric {p:g} % coverage interval from {result.trials} "
-                   f"trials."))
+    eng = result.engine
+    how = (f"adaptive (JCGM 101, 7.9): {eng.adaptive.batches} batches of {eng.adaptive.batch_size}, "
+           f"{'converged' if eng.adaptive.converged else 'NOT converged'} to "
+           f"{eng.adaptive.n_digits} significant digits of u" if eng.adaptive is not None
+           else "fixed number of trials")
+    b.append(Block("paragraph", f"u is the standard uncertainty; the intervals are the "
+                   f"probabilistically symmetric and the shortest {p:g} % coverage intervals and k "
+                   f"the implied coverage factor, from {result.trials} trials ({eng.method} "
+                   f"sampling, {how}; "
+                   + ("exact sample quantiles" if result.output_values is not None
+                      else "quantiles from the streaming histogram") + ")."))
     rows = [(band.group, band.output, f"±{band.tolerance:.6g} about {band.centre:g}",
              fmt(100 * conf[band.group]) + " %") for band in st.bands]
     rows.append(("all matched groups", "", "", fmt(100 * conf["all"]) + " %"))

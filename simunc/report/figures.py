@@ -20,11 +20,12 @@ def _png(fig) -> bytes:
 
 def reynolds_histogram(result) -> bytes:
     """Histogram of the Reynolds-number ratio with its band and coverage interval."""
-    y = np.asarray(result.output_values["reynolds_ratio"])
+    y = np.asarray(result.preview)
     row = result.statistics.loc["reynolds_ratio"]
     band = result.study.band("reynolds")
     fig, ax = plt.subplots(figsize=(7.0, 3.8))
-    ax.hist(y, bins=120, density=True, color="#4a78a8", alpha=0.85, label="Monte Carlo trials")
+    what = "Monte Carlo trials" if len(y) == result.trials else f"first {len(y)} trials"
+    ax.hist(y, bins=120, density=True, color="#4a78a8", alpha=0.85, label=what)
     if band is not None:
         ax.axvspan(1.0 - band.tolerance, 1.0 + band.tolerance, color="#6ab04c", alpha=0.15,
                    label=f"tolerance band ±{band.tolerance:.3g}")

@@ -33,6 +33,8 @@ def results_dict(result) -> dict:
             "unit": row["unit"], "label": row["label"], "nominal": row["nominal"], "mean": row["mean"],
             "standard_uncertainty": row["standard_uncertainty"],
             "coverage_interval": [row["low"], row["high"]],
+            "shortest_coverage_interval": [row["shortest_low"], row["shortest_high"]],
+            "coverage_factor": row["coverage_factor"],
             "coverage_probability": row["coverage_probability"],
         }
     doc = {
@@ -41,7 +43,19 @@ def results_dict(result) -> dict:
         "study": {"title": st.title, "path": st.path, "sha256": st.sha256},
         "run": {"trials": result.trials, "seed": result.seed,
                 "coverage_probability": result.coverage_probability,
-                "sobol_base_samples": st.run.sobol_base_samples, "sampling": "pseudo-random (PCG64)"},
+                "sobol_base_samples": st.run.sobol_base_samples, "sampling": result.engine.method,
+                "mode": "adaptive" if result.engine.adaptive is not None else "fixed",
+                "block_size": result.engine.block_size,
+                "adaptive": None if result.engine.adaptive is None else {
+                    "significant_digits": result.engine.adaptive.n_digits,
+                    "batch_size": result.engine.adaptive.batch_size,
+                    "batches": result.engine.adaptive.batches,
+                    "converged": result.engine.adaptive.converged,
+                    "tolerance": dict(result.engine.adaptive.tolerance),
+                    "reached": {k: dict(v) if isinstance(v, dict) else v
+                                for k, v in result.engine.adaptive.reached.items()}},
+                "intervals": "exact sample quantiles" if result.output_values is not None
+                             else "streaming histogram"},
         "setpoint": {
             "solve_for": list(sp.solve_for),
             "method": sp.method,
@@ -63,6 +77,8 @@ def results_dict(result) -> dict:
         },
         "inputs": [{
             "name": i.name, "perturbs": i.target, "distribution": i.kind,
+            "effects": [{"target": t, "factor": f} for t, f in i.effects],
+            "component": i.component, "degrees_of_freedom": i.dof,
             "specified_as": i.spec.size_kind, "written": i.spec.text,
             "coverage_factor": i.spec.coverage_factor if i.spec.size_kind == "expanded_uncertainty" else None,
             "standard_uncertainty": i.standard_uncertainty,

@@ -52,6 +52,7 @@ class Result:
     pi_groups: list | None = None
     lpu: object | None = None          # simunc.lpu.LPUResult
     validation: pd.DataFrame | None = None
+    components: pd.DataFrame | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -224,6 +225,33 @@ def _engine_statistics(res, setpoint: SetPoint) -> pd.DataFrame:
     return pd.DataFrame(rows).set_index("output")
 
 
+def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
+    """Systematic and random standard uncertainty of outputs from the LPU budget.
+
+    ``u_sys^2`` sums the contributions of inputs marked ``component = "systematic"``
+    (fixed over a test: shared by every point of a test matrix), ``u_rand^2`` those
+    marked ``"random"`` (point to point); a correlation term between two inputs of
+    one component counts with that component (ASME PTC 19.1 and AIAA S-071A keep the two
+    apart in the same way).
+    """
+    comp = {i.name: i.component for i in inputs}
+    rows = []
+    for out in outputs:
+        bud = result_lpu.budget(out)
+        part = {"systematic": 0.0, "random": 0.0, "mixed": 0.0}
+        for term, row in bud.iterrows():
+            if row["kind"] == "correlation":
+                a, b = term[2:-1].split(", ", 1)
+                key = comp.get(a) if comp.get(a) == comp.get(b) else "mixed"
+            else:
+                key = comp.get(term, "systematic")
+            part[key] += float(row["contribution"])
+        rows.append({"output": out, "u_systematic": float(np.sqrt(max(part["systematic"], 0.0))),
+                     "u_random": float(np.sqrt(max(part["random"], 0.0))),
+                     "u_combined": float(result_lpu.estimates.loc[out, "standard_uncertainty"])})
+    return pd.DataFrame(rows).set_index("output")
+
+
 def run(study: Study, trials: int | None = None, seed: int | None = None) -> Result:
     """Solve the set point and propagate the study's uncertain inputs.
 
@@ -274,7 +302,7 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
     ranking = _ranking(sobol, stats, study, inputs)
     pis = list(study.dimensional_analysis.groups) if study.dimensional_analysis else None
-    guf = validation = None
+    guf = validation = components = None
     if inputs:
         varying = [o for o in stats.index if stats.loc[o, "standard_uncertainty"] > 0.0]
         dof = {i.name: i.dof for i in inputs}
@@ -282,6 +310,8 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
         guf = lpu(problem, varying, coverage_probability=settings.coverage_probability,
                   dof=dof if finite and correlation is None else None, correlation=correlation)
         validation = validate(guf, stats.loc[varying], n_digits=2)
+        components = component_split(guf, inputs, [b.output for b in study.bands
+                                                    if b.output in varying])
     return Result(study, setpoint, inputs, res.trials, settings.seed, stats, conf, sobol,
                   ranking, warnings, res.x, res.y, np.concatenate(monitor.preview), res, envelope(study, model, setpoint), plan(study, model, setpoint),
-                  pis, guf, validation)
+                  pis, guf, validation, components)

@@ -127,7 +127,11 @@ def summarize(y: np.ndarray, coverage_probability: float = 0.95) -> dict[str, fl
     if not np.all(np.isfinite(y)):
         raise FloatingPointError("non-finite model output in the trials")
     a = 0.5 * (1.0 - coverage_probability)
-    low, high = quantiles(y, (a, 1.0 - a))
+    first = y.flat[0] if y.size else 0.0
+    if y.size and y.min() == first == y.max():  # a constant output: no order statistics needed
+        low = high = float(first)
+    else:
+        low, high = quantiles(y, (a, 1.0 - a))
     return {
         "mean": float(np.mean(y)),
         "standard_uncertainty": float(np.std(y, ddof=1)),

@@ -181,6 +181,7 @@ def test_stated_property_uncertainty_as_an_input(demo_dict):
     from simunc.fluids import AIR
     from simunc.inputs import build_inputs
 
+    demo_dict.pop("correlations", None)
     demo_dict["uncertain"] = [{"name": "mu model", "perturbs": "viscosity_model",
                                "distribution": "normal", "standard_uncertainty": "stated"}]
     study = parse_study(demo_dict)

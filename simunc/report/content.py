@@ -249,6 +249,10 @@ def build(result) -> list[Block]:
                        "is validated when both endpoint differences d are at most the numerical "
                        "tolerance delta of two significant digits of u."))
         b.append(Block("table", _table(tab)))
+        if result.components is not None and len(result.components):
+            b.append(Block("paragraph", "Systematic (fixed over a test) and random (point to point) "
+                           "standard uncertainty of the matched groups, from the LPU budget:"))
+            b.append(Block("table", _table(result.components.reset_index())))
         for k in keys[:2]:
             bud = result.lpu.budget(k).reset_index()
             b.append(Block("paragraph", f"Uncertainty budget of **{k}** (LPU):"))

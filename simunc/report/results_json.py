@@ -86,6 +86,8 @@ def results_dict(result) -> dict:
         } for i in result.inputs],
         "outputs": outputs,
         "warnings": list(result.warnings),
+        "components": None if result.components is None else {
+            out: dict(row) for out, row in result.components.iterrows()},
         "lpu": None if result.lpu is None else {
             out: {"value": row["value"], "standard_uncertainty": row["standard_uncertainty"],
                   "coverage_factor": row["coverage_factor"],

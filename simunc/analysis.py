@@ -290,8 +290,19 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
                         coverage_probability=p, on_chunk=monitor)
     warnings = monitor.warnings()
     if not setpoint.feasible:
-        warnings.append("The set point is not achievable as stated: it violates a facility limit or "
-                        "misses a group. Do not run it as it stands; see the set-point section.")
+        top = min((b.priority for b in study.bands if b.solve), default=1)
+        first_ok = all(abs(setpoint.mismatch.get(b.group, 0.0)) < 1e-6 for b in study.bands
+                       if b.solve and b.priority == top)
+        if first_ok and all(lim.ok for lim in setpoint.limits):
+            short = ", ".join(b.group for b in study.bands if b.solve and b.priority > top
+                              and abs(setpoint.mismatch.get(b.group, 0.0)) >= 1e-6)
+            warnings.append(f"The set point matches the priority-{top} groups inside the facility "
+                            f"limits; {short} falls short: plan the extrapolation (see the "
+                            "split-test plan).")
+        else:
+            warnings.append("The set point is not achievable as stated: it violates a facility "
+                            "limit or misses a priority group. Do not run it as it stands; see the "
+                            "set-point section.")
     if correlation is not None:
         warnings.append("The study correlates inputs: Sobol indices assume independent inputs, so "
                         "read the ranking with care.")

@@ -109,6 +109,7 @@ class SetPoint:
     required_values: dict = field(default_factory=dict)
     fluid: str = ""
     alternatives: list = field(default_factory=list)
+    outside_model: str = ""  # why the nominal facility state is outside the fluid model, if it is
 
     @property
     def reynolds_shortfall(self) -> float:
@@ -335,7 +336,14 @@ def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
     """Solve the nominal set point of a study.
 
     With several candidate fluids (``match.solve_for`` includes ``gas``) each is
-    solved and the best kept: feasible first, then the smallest mismatch.
+    solved and the best kept: inside its property model first, then feasible, then
+    the smallest mismatch (in tolerance bands).
+
+    Raises
+    ------
+    StudyError
+        When the set point lies outside the property model of every candidate
+        fluid (condensation, liquid side of the saturation line, a model's range).
 
     """
     candidates = [model.fluid] if model is not None else list(study.facility.fluids)
@@ -343,7 +351,15 @@ def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
         candidates = candidates[:1]
     results = [_solve_fluid(study, model if model is not None and f is model.fluid
                             else build_model(study, f)) for f in candidates]
-    best = min(results, key=lambda sp: (not sp.feasible, sum(v * v for v in sp.mismatch.values())))
+    best = min(results, key=lambda sp: (bool(sp.outside_model), not sp.feasible,
+                                        sum(v * v for v in sp.mismatch.values())))
+    if best.outside_model:
+        from .errors import StudyError
+
+        key = "facility.humidity" if "supersaturated" in best.outside_model else "facility"
+        raise StudyError(key, f"a set point outside the {best.fluid} model ({best.outside_model})",
+                         "facility settings and ranges that keep the test section inside the fluid "
+                         "model (e.g. a higher stagnation temperature, a drier gas, another fluid)")
     if len(results) > 1:
         alts = [{"fluid": sp.fluid, "feasible": sp.feasible,
                  "mismatch": dict(sp.mismatch)} for sp in results]
@@ -377,7 +393,13 @@ def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
 
     limits = _limits(study, state, out)
     msgs, mismatch, binding, matched = _describe(state, out, keys, bands, limits, required)
-    reason = model.fluid.check_state(out["static_pressure"], out["static_temperature"])
+    states = [out["static_pressure"], out["static_temperature"]]
+    reason = ("non-finite set point (the solver found no state of the fluid model)"
+              if not all(math.isfinite(v) for v in out.values() if isinstance(v, float) and v == v)
+              or not all(math.isfinite(v) for v in states) else
+              model.fluid.check_state(*states))
+    if not reason and model.kind == "gas":  # the stagnation state too (liquid side at T0?)
+        reason = model.fluid.check_state(out["stagnation_pressure"], out["stagnation_temperature"])
     if reason:
         msgs.append(f"The facility state is outside the {model.fluid.name} model: {reason}.")
     feasible = matched and all(lim.ok for lim in limits) and not reason
@@ -392,4 +414,4 @@ def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
     method = "exact" if len(keys) == len(bands) else "least squares"
     first = keys[0] if keys else ""
     return SetPoint(state, out, tuple(keys), required.get(first, math.nan), feasible, limits, msgs,
-                    method, mismatch, binding, required, model.fluid.name)
+                    method, mismatch, binding, required, model.fluid.name, outside_model=reason or "")

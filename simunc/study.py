@@ -397,6 +397,12 @@ def _facility(t: Table) -> Facility:
     kind = kinds.pop()
     if t.has("humidity"):
         fluids = tuple(_humid(t, f) for f in fluids)
+    elif any(f.name == "moist_air" for f in fluids):
+        t.require("humidity", "a dew point or relative humidity for moist_air")
+    if t.has("max_blockage") != t.has("test_section_area"):
+        missing = "test_section_area" if t.has("max_blockage") else "max_blockage"
+        t.require(missing, "the blockage limit needs max_blockage, test_section_area and "
+                  "full_scale.frontal_area together")
     for k in (_LIQUID_ONLY if kind == "gas" else _GAS_ONLY):
         if t.has(k):
             raise StudyError(t.key(k), t.data[k], f"no {k} for a {kind} facility ({names[0]})")
@@ -451,14 +457,20 @@ def _humid(t: Table, fluid: Fluid) -> Fluid:
     h = Table(t.data["humidity"], t.key("humidity"), _HUMIDITY_KEYS)
     p = h.quantity("at_pressure", "pressure", default=t.optional_quantity(
         "stagnation_pressure", "pressure") or ATMOSPHERIC_PRESSURE)
-    if h.exclusive(("dew_point", "relative_humidity")) == "dew_point":
-        out = MoistAir.from_dew_point(p, h.quantity("dew_point", "temperature"))
-    else:
-        t_ref = h.quantity("at_temperature", "temperature", default=t.optional_quantity(
-            "stagnation_temperature", "temperature") or 293.15)
-        rh = h.number("relative_humidity", low=0.0, high=1.0, allow_percent=True,
-                      what="a relative humidity from 0 to 100 %")
-        out = MoistAir.from_relative_humidity(p, t_ref, rh)
+    try:
+        if h.exclusive(("dew_point", "relative_humidity")) == "dew_point":
+            out = MoistAir.from_dew_point(p, h.quantity("dew_point", "temperature"))
+        else:
+            t_ref = h.quantity("at_temperature", "temperature", default=t.optional_quantity(
+                "stagnation_temperature", "temperature") or 293.15)
+            rh = h.number("relative_humidity", low=0.0, high=1.0, allow_percent=True,
+                          what="a relative humidity from 0 to 100 %")
+            out = MoistAir.from_relative_humidity(p, t_ref, rh)
+    except ValueError as exc:
+        if isinstance(exc, StudyError):
+            raise
+        raise StudyError(t.key("humidity"), t.data["humidity"], "a humidity the moist-air model "
+                         f"covers ({exc})") from exc
     if not (0.0 <= out.vapour_mole_fraction < 0.2):
         raise StudyError(t.key("humidity"), t.data["humidity"], "a humidity the moist-air model "
                          f"covers (gives a vapour mole fraction {out.vapour_mole_fraction:.3g})")
@@ -824,6 +836,8 @@ def _custom_group(t: Table, name: str, fs: FullScale) -> tuple[CustomGroup, Band
     powers_raw = t.require("powers", "a table of quantity = exponent")
     pt = Table(powers_raw, t.key("powers"), tuple(QUANTITIES))
     powers = {q: pt.number(q, what="an exponent (a number)") for q in powers_raw}
+    if not any(powers.values()):
+        raise StudyError(t.key("powers"), powers_raw, "at least one non-zero exponent")
     dims = ureg.Quantity(1.0, "")
     for q, e in powers.items():
         dims = dims * ureg.Quantity(1.0, QUANTITIES[q]) ** e
@@ -838,6 +852,8 @@ def _match(data: Any, fs: FullScale, kind: str) -> tuple[tuple, tuple, tuple[str
     match = Table(data, "match", allowed)
     solve_for = match.names("solve_for", ("stagnation_pressure",) if kind == "gas" else ("speed",))
     names = SOLVE_NAMES[kind]
+    if len(set(solve_for)) != len(solve_for):
+        raise StudyError("match.solve_for", list(solve_for), "each quantity once")
     for n in solve_for:
         if n not in names:
             Table({"solve_for": n}, "match", ("solve_for",)).choice("solve_for", dict(
@@ -911,8 +927,10 @@ def _unknowns(study_fac: Facility, solve_for, bands, model_size: str | None,
     n_continuous = len([u for u in unknowns if u != "fluid"])
     if n_continuous > n_solving:
         raise StudyError("match.solve_for", list(solve_for),
-                         f"no more unknowns than solved groups ({n_continuous} unknowns "
-                         f"{', '.join(u for u in unknowns if u != 'fluid')} for {n_solving} groups)")
+                         f"no more unknowns than solved groups ({n_continuous} unknown"
+                         f"{'s' if n_continuous != 1 else ''} "
+                         f"{', '.join(u for u in unknowns if u != 'fluid')} for {n_solving} "
+                         f"group{'s' if n_solving != 1 else ''})")
     if "fluid" in unknowns and len(study_fac.fluids) < 2:
         raise StudyError("facility.gas", [f.name for f in study_fac.fluids],
                          "a list of two or more fluids to choose from (match.solve_for has 'gas')")
@@ -973,8 +991,21 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     for i, n in enumerate(names):
         if names.index(n) != i:
             raise StudyError(f"uncertain[{i}].name", repr(n), "a name not used by another input")
+    if (fac.max_blockage is not None) != (fs.frontal_area is not None):
+        if fs.frontal_area is None:
+            Table(data["full_scale"], "full_scale", _FULL_SCALE_KEYS).require(
+                "frontal_area", "the blockage limit needs full_scale.frontal_area")
+        ft.require("max_blockage", "full_scale.frontal_area serves only the blockage limit")
+    has_freq = fs.frequency is not None and (freq is not None or "frequency" in unknowns)
+    for cg in customs:
+        if "frequency" in cg.powers and not has_freq:
+            raise StudyError(f"match.custom.{cg.name}.powers", dict(cg.powers), "a frequency only "
+                             "with full_scale.frequency and model.frequency (or [match.strouhal])")
     for i, spec in enumerate(inputs):
         for target in spec.targets:
+            if target in ("frequency_indication", "full_scale_frequency") and not has_freq:
+                raise StudyError(f"uncertain[{i}].perturbs", repr(target), "a frequency input only "
+                                 "with full_scale.frequency and a model frequency")
             p = TARGETS[target].parameter
             if p and not all(p in getattr(f, "parameters", ()) for f in fac.fluids):
                 raise StudyError(f"uncertain[{i}].perturbs", repr(target),

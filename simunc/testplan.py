@@ -71,15 +71,19 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     re_band = study.band("reynolds")
     primary = [b for b in study.bands if b.solve and b.priority == 1 and b.group != "reynolds"]
     name = primary[0].group.capitalize() if primary else ""
-    if setpoint.feasible or re_band is None or not primary:
+    if setpoint.feasible or re_band is None or not primary or all(
+            abs(_band_residual(b, setpoint.outputs)) < MATCHED for b in primary + [re_band]):
         return TestPlan(primary[0].group if primary else "")
     keys = _keys(study)
     others = [b for b in study.bands if b.solve and b.group != "reynolds" and b not in primary]
     re_fs = setpoint.outputs["reynolds_full_scale"]
 
-    def run(label, purpose, bands):
-        state, out = solve_state(study, model, keys, bands)
+    def run(label, purpose, bands, use=None):
+        state, out = solve_state(study, model, use or keys, bands)
         return PlannedRun(label, purpose, state, out)
+
+    # The sweep moves the facility, not the model: its size and frequency stay at the set point.
+    sweep_keys = [k for k in keys if k not in ("model_length", "frequency")]
 
     # A: primary matched, Reynolds number pushed as high as the limits allow.
     high = replace(re_band, target=1.0e6, priority=2)
@@ -90,14 +94,15 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
         notes.append("The Reynolds number can be matched with the primary group; the set point "
                      "falls short for another reason (see the limits).")
     low = replace(re_band, target=1.0e-6, priority=2)
-    b_low = run("B1", "lowest reachable Reynolds number", primary + [low] + others)
+    b_low = run("B1", "lowest reachable Reynolds number", primary + [low] + others, sweep_keys)
     re_low = b_low.outputs["reynolds_model"]
     runs = [a]
     levels = np.geomspace(re_low, re_a, SWEEP_POINTS)[:-1] if re_a > re_low * (1 + 1e-6) else []
     for i, level in enumerate(levels):
         aim = replace(re_band, target=level / re_fs, priority=2)
-        runs.append(run(f"B{i + 1}", f"Reynolds sweep at {name} matched ({level:.4g})",
-                        primary + [aim] + others))
+        r = run(f"B{i + 1}", "", primary + [aim] + others, sweep_keys)
+        runs.append(replace(r, purpose=f"Reynolds sweep at {name} matched "
+                                       f"(Re = {r.outputs['reynolds_model']:.4g})"))
     # C: Reynolds number matched first, the primary group as close as it gets.
     c_bands = [replace(re_band, priority=1)] + [replace(b, priority=2) for b in primary] + others
     c = run("C", f"Reynolds number matched, {name} as close as the facility allows", c_bands)

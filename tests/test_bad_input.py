@@ -129,3 +129,29 @@ def test_no_traceback_and_exit_code_from_console(write_study, demo_text, tmp_pat
     assert "Traceback" not in proc.stderr
     assert len(proc.stderr.strip().splitlines()) == 1
     assert not out.exists()
+
+
+# Set points outside the fluid model and incomplete limits, found by reviewing as a user.
+def _facility_edit(demo_text, extra: str) -> str:
+    return demo_text.replace('name = "Brackwater pressurised tunnel BPT-2 (fictional)"',
+                             'name = "Brackwater pressurised tunnel BPT-2 (fictional)"\n' + extra, 1)
+
+
+@pytest.mark.parametrize("extra,key,words", [
+    # Nitrogen at 70 K is liquid at these pressures (CoolProp saturation line): no set point.
+    ('gas = "nitrogen"\nstagnation_temperature_range = ["60 K", "70 K"]', "facility", "nitrogen"),
+    ('gas = "moist_air"\nhumidity = { dew_point = "200 degC" }', "facility.humidity", "moist-air"),
+    ('gas = "moist_air"', "facility.humidity", "missing"),
+    ('max_blockage = "1 %"\ntest_section_area = "2 m^2"', "full_scale.frontal_area", "blockage"),
+])
+def test_set_point_outside_fluid_model_or_incomplete_limits(extra, key, words, demo_text,
+                                                            write_study, capsys):
+    text = _facility_edit(demo_text.replace('gas = "dry_air"\n', ""), extra)
+    if "60 K" in extra:
+        text = text.replace('stagnation_temperature = "310 K"\n', "").replace(
+            'solve_for = "stagnation_pressure"', 'solve_for = "stagnation_temperature"').replace('stagnation_pressure_range = ["0.5 bar", "9 bar"]',
+                                     'stagnation_pressure_range = ["0.5 bar", "9 bar"]\n'
+                                     'stagnation_pressure = "3 bar"')
+    code, err = _run_check(write_study(text), capsys)
+    assert code == 2 and len(err.splitlines()) == 1, err
+    assert f"study key '{key}'" in err and words in err

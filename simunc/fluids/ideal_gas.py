@@ -145,10 +145,23 @@ class IdealGas:
         """
         return flow.mach_from_pressure_ratio(np.asarray(p0) / np.asarray(p), self.gamma)
 
+    #: Range where the perfect-gas and Sutherland models serve air [K], [Pa] (below ~150 K the gas
+    #: nears condensation and the perfect-gas density errs by several per cent; use air_real).
+    t_range = (150.0, 1000.0)
+    p_max = 2.0e6
+
     def check_state(self, p, t):
-        """Perfect gas: any positive state is inside the model."""
-        if np.any(np.asarray(t) <= 0.0) or np.any(np.asarray(p) <= 0.0):
-            return "non-positive pressure or temperature"
+        """``None`` inside 150-1000 K and up to 20 bar, else the reason (vectorized)."""
+        p, t = np.asarray(p, dtype=float), np.asarray(t, dtype=float)
+        if not (np.all(np.isfinite(p)) and np.all(np.isfinite(t))):
+            return "non-finite pressure or temperature"
+        if np.any(t < self.t_range[0]) or np.any(t > self.t_range[1]):
+            return (f"temperature {float(np.min(t)):.5g} .. {float(np.max(t)):.5g} K outside "
+                    f"{self.t_range[0]:g} .. {self.t_range[1]:g} K of the perfect-gas model "
+                    "(use air_real or nitrogen)")
+        if np.any(p <= 0.0) or np.any(p > self.p_max):
+            return (f"pressure {float(np.min(p)):.6g} .. {float(np.max(p)):.6g} Pa outside "
+                    f"0 .. {self.p_max:g} Pa of the perfect-gas model")
         return None
 
 

@@ -74,7 +74,7 @@ def build(result) -> list[Block]:
     if st.description:
         b.append(Block("paragraph", st.description))
 
-    verdict = "achievable and matched" if sp.feasible else "NOT achievable as stated"
+    verdict = "achievable and matched" if sp.feasible else "not every group matched (see below)"
     conf = result.conformity
     solved = ", ".join(k.replace("_", " ") for k in sp.solve_for) or "nothing"
     b += [Block("heading", "Summary"), Block("bullets", [
@@ -164,7 +164,7 @@ def build(result) -> list[Block]:
         for r in tp.runs:
             row = {"run": r.label, "purpose": r.purpose}
             for k in ("stagnation_pressure", "stagnation_temperature", "mach", "speed",
-                      "temperature", "model_length"):
+                      "static_pressure", "temperature", "model_length"):
                 if k in r.state and r.state[k] is not None:
                     row[k] = r.state[k]
             row["reynolds_ratio"] = r.outputs["reynolds_ratio"]

@@ -67,7 +67,7 @@ def results_dict(result) -> dict:
             "binding": list(sp.binding),
             "alternatives": list(sp.alternatives),
             "reynolds_shortfall": sp.reynolds_shortfall,
-            "mach_shortfall": sp.mach_shortfall if "mach_difference" in sp.outputs else None,
+            "mach_shortfall": sp.mach_shortfall if st.kind == "gas" else None,
             "nominal": {k: v for k, v in sp.nominal.items() if v is not None},
             "outputs": dict(sp.outputs),
             "limits": [{"quantity": lim.quantity, "side": lim.side, "bound": lim.bound,

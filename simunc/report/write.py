@@ -26,6 +26,10 @@ def check_out_dir(out_dir) -> Path:
         if p.exists() and not p.is_dir():
             raise StudyError("--out", str(out_dir), "a folder (a file of that name is in the way: "
                              f"{p})")
+    existing = next((p for p in (out, *out.parents) if p.exists()), Path("."))
+    if not os.access(existing, os.W_OK):
+        raise StudyError("--out", str(out_dir), f"a folder simunc may write in ({existing} is not "
+                         "writable)")
     return out
 
 
@@ -65,7 +69,11 @@ def write_report(result, out_dir: str | os.PathLike, samples: str | None = None)
     """
     out = check_out_dir(out_dir)
     files = render_all(result, samples)
-    out.mkdir(parents=True, exist_ok=True)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        from ..errors import StudyError
+        raise StudyError("--out", str(out_dir), f"a folder simunc can create ({exc.strerror})") from exc
     tmp = Path(tempfile.mkdtemp(prefix=".simunc-", dir=out))
     try:
         for name, data in files.items():

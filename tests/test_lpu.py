@@ -28,6 +28,8 @@ from simunc.lpu import (DEFAULT_STEP, coverage_factor, lpu, numerical_tolerance,
                         sensitivity_coefficients, validate, welch_satterthwaite)
 from simunc.propagate import Problem, monte_carlo, summarize
 
+from .test_propagate_jcgm101 import irwin_hall_cdf, irwin_hall_pdf
+
 K_SE = 5.0
 EPS = np.finfo(float).eps
 SQRT3 = math.sqrt(3.0)
@@ -231,23 +233,6 @@ def _additive(dists):
                    lambda x: {"y": x["X1"] + x["X2"] + x["X3"] + x["X4"]})
 
 
-def _irwin_hall_cdf(x, n):
-    """CDF of the sum of n independent U(0, 1) (closed form)."""
-    if x <= 0.0:
-        return 0.0
-    if x >= n:
-        return 1.0
-    return sum((-1) ** k * math.comb(n, k) * (x - k) ** n
-               for k in range(int(math.floor(x)) + 1)) / math.factorial(n)
-
-
-def _irwin_hall_pdf(x, n):
-    if x <= 0.0 or x >= n:
-        return 0.0
-    return sum((-1) ** k * math.comb(n, k) * (x - k) ** (n - 1)
-               for k in range(int(math.floor(x)) + 1)) / math.factorial(n - 1)
-
-
 def _mc_interval(problem, trials, chunks, seed):
     """Monte Carlo 95 % probabilistically symmetric interval from ``chunks`` runs pooled.
 
@@ -308,7 +293,7 @@ def test_9_2_3_rectangular_inputs_validation_depends_on_n_dig():
     assert e["high"] == pytest.approx(guf_q, rel=1e-9)
 
     # Exact 97.5 % quantile: Y = sqrt3 (2 V - 4), V ~ Irwin-Hall(4).
-    exact_q = optimize.brentq(lambda y: _irwin_hall_cdf((y / SQRT3 + 4) / 2, 4) - 0.975,
+    exact_q = optimize.brentq(lambda y: irwin_hall_cdf((y / SQRT3 + 4) / 2, 4) - 0.975,
                               0.0, 4 * SQRT3, xtol=1e-13)
     assert exact_q == pytest.approx(3.88, abs=0.005)
     d_exact = guf_q - exact_q  # 3.91993 - 3.87941 = 0.04052
@@ -325,7 +310,7 @@ def test_9_2_3_rectangular_inputs_validation_depends_on_n_dig():
     # so the n_dig = 2 margin delta - d = 0.0095 is over 6 SE.
     m = 10_000_000
     s, m = _mc_interval(p, m, 5, seed=9203)
-    se_q = math.sqrt(0.975 * 0.025 / m) / (_irwin_hall_pdf((exact_q / SQRT3 + 4) / 2, 4)
+    se_q = math.sqrt(0.975 * 0.025 / m) / (irwin_hall_pdf((exact_q / SQRT3 + 4) / 2, 4)
                                             / (2 * SQRT3))
     assert s["high"] == pytest.approx(exact_q, abs=K_SE * se_q)
     assert s["low"] == pytest.approx(-exact_q, abs=K_SE * se_q)
@@ -487,6 +472,7 @@ def demo_problem():
     from simunc.analysis import similitude_problem
     from simunc.inputs import build_inputs
     from simunc.setpoint import build_model, solve
+
     study = simunc.load_study(Path(__file__).resolve().parent.parent / "studies" / "arven_cruise.toml")
     setpoint = solve(study)
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))

@@ -105,10 +105,19 @@ class Case:
 # Framework path
 # ---------------------------------------------------------------------------
 
+#: The outputs the hand-written path computes; the framework summarises the same ones (its model
+#: still computes all its groups, and that time counts).
+COMPARED = ("reynolds_ratio", "mach_difference", "reynolds_model", "mach_model",
+            "reynolds_full_scale", "mach_full_scale", "dynamic_pressure", "speed", "density",
+            "viscosity", "static_pressure", "static_temperature", "stagnation_pressure",
+            "stagnation_temperature", "model_length", "full_scale_temperature", "full_scale_speed",
+            "sutherland")
+
+
 def framework(case: Case, trials: int, seed: int):
-    """monte_carlo + summarize on every output + conformity."""
+    """monte_carlo + summarize on the compared outputs + conformity."""
     _, y = monte_carlo(case.problem, trials, seed)
-    stats = {k: summarize(v, case.coverage_probability) for k, v in y.items()}
+    stats = {k: summarize(y[k], case.coverage_probability) for k in COMPARED}
     conf = conformity(y, case.study)
     return stats, conf
 
@@ -388,10 +397,8 @@ def main(argv=None) -> int:
           f"conformity abs diff {conf:.1e})")
     if missing:
         print(f"  outputs the framework lacks: {sorted(missing)}")
-    extra = sorted(set(fw[0]) - set(hw[0]))
-    if extra:
-        print(f"  the framework also computes and summarises {len(extra)} more outputs "
-              f"({len(fw[0])} against {len(hw[0])}); they count in its time")
+    print(f"  statistics compared on {len(COMPARED)} outputs; the framework's model also computes "
+          "its other groups (Froude, Euler, Prandtl, gamma), and that time counts")
     print(f"target ratio <= {TARGET_RATIO}       {'PASS' if ratio <= TARGET_RATIO else 'FAIL'}")
     print(f"target framework < {TARGET_SECONDS:g} s   "
           f"{'PASS' if best_fw < TARGET_SECONDS else 'FAIL'}"

@@ -12,7 +12,7 @@ This is the Python API behind ``simunc run``::
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
@@ -21,7 +21,10 @@ from .inputs import UncertainInput, build_inputs
 from .lpu import lpu, validate
 from .model import SimilitudeModel, describe_output
 from .propagate import Problem, adaptive, propagate
-from .sensitivity import sobol_indices
+from .requirements import allocate, input_limits
+from .sensitivity import SobolResult, sobol_analysis
+from .shapley import shapley_effects
+from .tolerances import DESIGN_STREAM, VERIFY_STREAM, Design, stream_seed, sweep, tightening
 from .setpoint import SetPoint, build_model, solve
 from .envelope import Envelope, envelope
 from .errors import StudyError
@@ -53,6 +56,14 @@ class Result:
     lpu: object | None = None          # simunc.lpu.LPUResult
     validation: pd.DataFrame | None = None
     components: pd.DataFrame | None = None
+    sobol_result: SobolResult | None = None
+    shapley: dict | None = None             # output -> DataFrame (correlated inputs)
+    tightening: pd.DataFrame | None = None  # "control this more tightly"
+    requirement_checks: list | None = None  # requirements at the written tolerances (fresh run)
+    input_limits: pd.DataFrame | None = None
+    allocation: object | None = None        # simunc.requirements.Allocation
+    sweeps: list = field(default_factory=list)
+    design_trials: int = 0
 
     @property
     def coverage_probability(self) -> float:
@@ -252,8 +263,13 @@ def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
     return pd.DataFrame(rows).set_index("output")
 
 
-def run(study: Study, trials: int | None = None, seed: int | None = None) -> Result:
-    """Solve the set point and propagate the study's uncertain inputs.
+#: Parts of an analysis beyond the Monte Carlo run and the Sobol ranking.
+PARTS = ("requirements", "sweeps")
+
+
+def run(study: Study, trials: int | None = None, seed: int | None = None, *,
+        parts=PARTS, extra_sweeps=()) -> Result:
+    """Solve the set point, propagate the uncertain inputs, rank them, solve the requirements.
 
     Parameters
     ----------
@@ -261,6 +277,11 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
         From :func:`simunc.load_study`.
     trials, seed : int, optional
         Override ``run.trials`` and ``run.seed``.
+    parts : sequence of str
+        Which of :data:`PARTS` to run when the study defines them: the requirement
+        solver and allocation (``[[requirement]]``), the tolerance sweeps (``[[sweep]]``).
+    extra_sweeps : sequence of simunc.planning_spec.Sweep
+        Sweeps to run besides the study's (the ``simunc sweep`` command).
     """
     settings = replace(study.run, **{k: v for k, v in (("trials", trials), ("seed", seed))
                                      if v is not None})
@@ -309,9 +330,16 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
     stats = _engine_statistics(res, setpoint)
     conf = monitor.conformity()
     outputs = [b.output for b in study.bands]
-    sobol = sobol_indices(problem, outputs, settings.sobol_base_samples, settings.seed) if inputs else {
+    sens = study.sensitivity
+    sobol_result = sobol_analysis(problem, outputs, settings.sobol_base_samples, settings.seed,
+                                  second_order=sens.second_order,
+                                  groups=sens.groups or None) if inputs and outputs else None
+    sobol = sobol_result.first_total if sobol_result else {
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
     ranking = _ranking(sobol, stats, study, inputs)
+    want_shapley = sens.shapley == "yes" or (sens.shapley == "auto" and correlation is not None)
+    shapley = shapley_effects(problem, outputs, correlation, seed=settings.seed) \
+        if inputs and outputs and want_shapley else None
     pis = list(study.dimensional_analysis.groups) if study.dimensional_analysis else None
     guf = validation = components = None
     if inputs:
@@ -323,6 +351,62 @@ def run(study: Study, trials: int | None = None, seed: int | None = None) -> Res
         validation = validate(guf, stats.loc[varying], n_digits=2)
         components = component_split(guf, inputs, [b.output for b in study.bands
                                                     if b.output in varying])
-    return Result(study, setpoint, inputs, res.trials, settings.seed, stats, conf, sobol,
-                  ranking, warnings, res.x, res.y, np.concatenate(monitor.preview), res, envelope(study, model, setpoint), plan(study, model, setpoint),
-                  pis, guf, validation, components)
+    result = Result(study, setpoint, inputs, res.trials, settings.seed, stats, conf, sobol,
+                    ranking, warnings, res.x, res.y, np.concatenate(monitor.preview), res,
+                    envelope(study, model, setpoint), plan(study, model, setpoint),
+                    pis, guf, validation, components, sobol_result, shapley)
+    if inputs:
+        _decisions(result, problem, correlation, parts, extra_sweeps)
+    return result
+
+
+def _decisions(result: Result, problem: Problem, correlation, parts, extra_sweeps) -> None:
+    """Tightening ranking, requirements (limits, allocation, verification) and sweeps."""
+    study, setpoint, inputs = result.study, result.setpoint, result.inputs
+    settings, ds = study.run, study.design
+    design = Design(problem, study, setpoint, ds.trials, stream_seed(settings.seed, DESIGN_STREAM),
+                    settings.sampling, correlation)
+    result.design_trials = design.trials
+    if not design.figures(design.ones()).finite:
+        raise StudyError("design.trials", f"{ds.trials} trials with non-physical values",
+                         "input sizes small enough that every trial is a physical state")
+    removed = {}
+    for out in (b.output for b in study.bands):
+        if result.shapley is not None:
+            removed[out] = result.shapley[out]["first_order_full"]
+        elif out in result.sobol:
+            removed[out] = result.sobol[out]["S1"]
+    result.tightening = tightening(design, removed, inputs)
+
+    def verify_design():
+        return Design(problem, study, setpoint, ds.verify_trials,
+                      stream_seed(settings.seed, VERIFY_STREAM), settings.sampling, correlation)
+
+    if "requirements" in parts and study.requirements:
+        fresh = verify_design()
+        result.requirement_checks = fresh.figures(fresh.ones()).requirements
+        result.input_limits = input_limits(design, inputs)
+        if any(i.spec.cost is not None for i in inputs):
+            cov = result.lpu.input_correlation * np.outer(result.lpu.input_uncertainties,
+                                                          result.lpu.input_uncertainties)
+            needed = {r.output for r in study.requirements if r.output} | {
+                study.band(g).output for r in study.requirements for g in r.groups}
+            sens = _sensitivities(result, problem, correlation, needed)
+            try:
+                result.allocation = allocate(design, inputs, sens, cov, verify_design)
+            except ValueError as exc:
+                raise StudyError("uncertain.grades", str(exc), "fewer grade combinations") from exc
+    if "sweeps" in parts:
+        for sw in tuple(study.sweeps) + tuple(extra_sweeps):
+            result.sweeps.append(sweep(design, sw.key, sw.inputs, sw.scale[0], sw.scale[1],
+                                       sw.points, sw.spacing))
+
+
+def _sensitivities(result: Result, problem: Problem, correlation, outputs) -> pd.DataFrame:
+    """GUM sensitivity coefficients of ``outputs`` (from the run's LPU where it has them)."""
+    have = result.lpu.sensitivities
+    missing = [o for o in outputs if o not in have.index]
+    if not missing:
+        return have.loc[sorted(outputs)]
+    extra = lpu(problem, missing, correlation=correlation).sensitivities
+    return pd.concat([have.loc[[o for o in outputs if o in have.index]], extra])

@@ -1,4 +1,4 @@
-"""Command line: ``simunc check STUDY`` and ``simunc run STUDY``.
+"""Command line: ``simunc check|run|rank|sweep|allocate STUDY``.
 
 Exit codes: 0 success, 2 bad input, 1 internal error.  Errors are one line
 on standard error, never a traceback (``SIMUNC_DEBUG=1`` shows one for
@@ -41,12 +41,28 @@ def _parser() -> argparse.ArgumentParser:
     sub = p.add_subparsers(dest="command", required=True, parser_class=_Parser)
     c = sub.add_parser("check", help="validate a study file and print the solved set point")
     c.add_argument("study", help="study file (TOML)")
-    r = sub.add_parser("run", help="solve, propagate, rank and write the report")
-    r.add_argument("study", help="study file (TOML)")
-    r.add_argument("--out", default="simunc-report", help="report folder (default: simunc-report)")
-    r.add_argument("--trials", type=_positive_int(100), help="Monte Carlo trials (default: run.trials)")
-    r.add_argument("--seed", type=_positive_int(0), help="random seed (default: run.seed)")
-    r.add_argument("--samples", choices=("csv", "parquet"), help="also write the trials")
+    helps = {
+        "run": "solve, propagate, rank, solve the requirements, sweep; write the report",
+        "rank": "solve, propagate and rank the inputs (no requirements, no sweeps)",
+        "sweep": "rank, then sweep one or two tolerances (--input, or the study's [[sweep]])",
+        "allocate": "rank, then solve the study's [[requirement]] tables: tolerance limits, "
+                    "cheapest allocation, fresh verification",
+    }
+    for name, text in helps.items():
+        r = sub.add_parser(name, help=text)
+        r.add_argument("study", help="study file (TOML)")
+        r.add_argument("--out", default="simunc-report", help="report folder (default: simunc-report)")
+        r.add_argument("--trials", type=_positive_int(100), help="Monte Carlo trials (default: run.trials)")
+        r.add_argument("--seed", type=_positive_int(0), help="random seed (default: run.seed)")
+        r.add_argument("--samples", choices=("csv", "parquet"), help="also write the trials")
+        if name == "sweep":
+            r.add_argument("--input", action="append", metavar="NAME",
+                           help="input to sweep (give it twice for a 2-D sweep)")
+            r.add_argument("--scale", nargs=2, type=float, metavar=("LOW", "HIGH"),
+                           default=None, help="tolerance scales (default 0.1 3)")
+            r.add_argument("--points", type=_positive_int(3), help="points per input "
+                           "(default 15, 11 for two inputs)")
+            r.add_argument("--spacing", choices=("linear", "log"), default="linear")
     return p
 
 
@@ -73,6 +89,31 @@ def _check(args) -> int:
     return EXIT_OK
 
 
+def _cli_sweeps(args, study) -> tuple:
+    from .planning_spec import sweep
+
+    if not args.input:
+        if args.scale is not None or args.points is not None:
+            raise StudyError("--input", "nothing", "the input to sweep with --scale or --points")
+        if not study.sweeps:
+            raise StudyError("--input", "nothing (and the study has no [[sweep]] tables)",
+                             "one or two input names, e.g. --input 'T0 control stability'")
+        return ()
+    data = {"inputs": list(args.input), "spacing": args.spacing}
+    if args.scale is not None:
+        data["scale"] = list(args.scale)
+    if args.points is not None:
+        data["points"] = args.points
+    try:
+        sw = sweep(data, 0, [i.name for i in study.inputs])
+    except StudyError as exc:  # name the command-line option, not a study key
+        option = exc.key.split(".", 1)[-1].split("[")[0]
+        raise StudyError({"inputs": "--input", "scale": "--scale", "points": "--points"}.get(
+            option, "--" + option), exc.given, exc.expected, exc.hint) from None
+    from dataclasses import replace
+    return (replace(sw, key="--input " + " --input ".join(sw.inputs)),)
+
+
 def _run(args) -> int:
     from .analysis import run
     from .report import write_report
@@ -82,11 +123,30 @@ def _run(args) -> int:
 
     check_out_dir(args.out)
     study = load_study(args.study)
-    result = run(study, trials=args.trials, seed=args.seed)
+    parts, extra = {"run": ("requirements", "sweeps"), "rank": (), "sweep": ("sweeps",),
+                    "allocate": ("requirements",)}[args.command], ()
+    if args.command == "allocate" and not study.requirements:
+        raise StudyError("requirement", "no [[requirement]] tables", "at least one requirement "
+                         "for 'simunc allocate' (see the README)")
+    if args.command == "sweep":
+        extra = _cli_sweeps(args, study)
+    result = run(study, trials=args.trials, seed=args.seed, parts=parts, extra_sweeps=extra)
     written = write_report(result, args.out, samples=args.samples)
     sp = result.setpoint
     print(f"set point {'feasible' if sp.feasible else 'NOT feasible'}; "
           f"P(all matched groups in band) = {result.conformity['all']:.4f} over {result.trials} trials")
+    if result.tightening is not None and result.tightening["controllable"].any():
+        t = result.tightening
+        print(f"control more tightly first: {t[t['controllable']].index[0]}")
+    if result.requirement_checks is not None:
+        met = sum(c.met for c in result.requirement_checks)
+        print(f"requirements met at the written tolerances: {met} of "
+              f"{len(result.requirement_checks)}")
+    a = result.allocation
+    if a is not None:
+        print(f"allocation: {a.message}" if a.message else
+              f"allocation: cost {a.cost:.6g}; fresh Monte Carlo check "
+              f"{'passed' if a.verified else 'FAILED'} ({a.verify_trials} trials)")
     print(f"wrote {len(written)} files to {args.out}: " + ", ".join(p.name for p in written))
     return EXIT_OK
 

@@ -22,7 +22,9 @@ import numpy as np
 from . import atmosphere
 from .errors import StudyError
 from .fluids import AIR, FLUIDS, Fluid
-from .model import GRAVITY, GROUPS, QUANTITIES, TARGETS, CustomGroup, output_key
+from . import planning_spec
+from .model import GRAVITY, GROUPS, OUTPUTS, QUANTITIES, TARGETS, CustomGroup, output_key
+from .planning_spec import DesignSettings, SensitivitySettings
 from .study_table import Table, check_finite
 from .units import DIMENSIONS, Parsed, parse, to_si, ureg
 
@@ -60,7 +62,8 @@ SOLVE_NAMES = {
 DEFAULT_PRIORITY = {"mach": 1, "froude": 1}
 
 _ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
-              "correlations", "run", "dimensional_analysis")
+              "correlations", "run", "dimensional_analysis", "requirement", "sweep",
+              "sensitivity", "design")
 _FULL_SCALE_KEYS = ("fluid", "altitude", "pressure_altitude", "temperature_offset",
                     "static_pressure", "static_temperature", "depth", "mach", "speed",
                     "reference_length", "frequency", "frontal_area")
@@ -76,7 +79,8 @@ _CUSTOM_KEYS = ("powers", "tolerance", "priority", "solve")
 _SIZE_KEYS = ("standard_uncertainty", "expanded_uncertainty", "half_width", "accuracy",
               "resolution", "readings", "type_a")
 _INPUT_KEYS = ("name", "perturbs", "distribution") + _SIZE_KEYS + (
-    "coverage_factor", "coverage_probability", "degrees_of_freedom", "beta", "component", "note")
+    "coverage_factor", "coverage_probability", "degrees_of_freedom", "beta", "component", "note",
+    "controllable", "cost", "grades")
 _ACCURACY_KEYS = ("reading", "full_scale", "range", "absolute")
 _TYPE_A_KEYS = ("mean", "standard_deviation", "count")
 _CORRELATION_KEYS = ("pairs",)
@@ -232,6 +236,8 @@ class InputSpec:
     fixed: float = 0.0
     count: int | None = None
     coverage_probability: float | None = None
+    controllable: bool = True
+    cost: object = None  # simunc.planning_spec.CostModel or None
 
     def __post_init__(self) -> None:
         if not self.targets:
@@ -285,6 +291,10 @@ class Study:
     #: None, or (input names in [[uncertain]] order, their correlation matrix): see
     #: ``[correlations]`` in the README.
     correlation: tuple | None = field(default=None, compare=False)
+    requirements: tuple = ()          # planning_spec.Requirement
+    sweeps: tuple = ()                # planning_spec.Sweep
+    sensitivity: SensitivitySettings = field(default_factory=SensitivitySettings)
+    design: DesignSettings = field(default_factory=DesignSettings)
     path: str = ""
     sha256: str = ""
     raw: dict = field(default_factory=dict, repr=False, compare=False)
@@ -762,7 +772,9 @@ def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> Inpu
         text += f", beta = {beta:g}"
     return InputSpec(name, target, dist, size_kind, size, k, text, t.text("note", ""), t.prefix,
                      targets=targets, component=component, dof=nu, beta=beta, limit=limit,
-                     fixed=fixed, count=count, coverage_probability=p)
+                     fixed=fixed, count=count, coverage_probability=p,
+                     controllable=planning_spec.controllable(t, targets),
+                     cost=planning_spec.cost_model(t, targets))
 
 
 def _correlations(data: Any, names: list[str]) -> tuple | None:
@@ -1029,15 +1041,48 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
         sobol_base_samples=n_sobol,
     )
     dim = _dimensional(data["dimensional_analysis"]) if "dimensional_analysis" in data else None
+    requirements, sweeps, sens, design = _decisions(data, bands, inputs)
     return Study(
         title=root.text("title", "untitled study"),
         description=root.text("description", ""),
         full_scale=fs, facility=fac, model_scale=scale, model_reference_length=ref_len,
         solve_for=solve_for, unknowns=unknowns, bands=bands, inputs=inputs, run=run,
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
-        correlation=correlation,
-        path=path, sha256=sha256, raw=data,
+        correlation=correlation, requirements=requirements, sweeps=sweeps, sensitivity=sens,
+        design=design, path=path, sha256=sha256, raw=data,
     )
+
+
+def _array(data: dict, key: str) -> list:
+    raw = data.get(key, [])
+    if not isinstance(raw, list):
+        raise StudyError(key, raw, f"an array of tables ([[{key}]] entries)")
+    return raw
+
+
+def _decisions(data: dict, bands, inputs) -> tuple:
+    """``[[requirement]]``, ``[[sweep]]``, ``[sensitivity]``, ``[design]`` (planning_spec)."""
+    names = [i.name for i in inputs]
+    outputs = [b.output for b in bands] + [f"{b.group}_{s}" for b in bands
+                                           for s in ("model", "full_scale")] + list(OUTPUTS)
+    reqs = tuple(planning_spec.requirement(d, i, bands, outputs)
+                 for i, d in enumerate(_array(data, "requirement")))
+    sweeps = tuple(planning_spec.sweep(d, i, names) for i, d in enumerate(_array(data, "sweep")))
+    sens = planning_spec.sensitivity(data["sensitivity"], names) if "sensitivity" in data \
+        else SensitivitySettings()
+    design = planning_spec.design(data["design"]) if "design" in data else DesignSettings()
+    costed = [(j, spec.cost.kind) for j, spec in enumerate(inputs) if spec.cost is not None]
+    if len({k for _, k in costed}) > 1:
+        j = next(j for j, k in costed if k != costed[0][1])
+        raise StudyError(f"uncertain[{j}].{'grades' if costed[0][1] == 'power' else 'cost'}",
+                         "a cost model of another kind than the other inputs'",
+                         "the same kind for every costed input: all 'cost' (continuous) or all "
+                         "'grades' (a choice of instruments)")
+    for j, spec in enumerate(inputs):
+        if spec.cost is not None and not spec.controllable:
+            raise StudyError(f"uncertain[{j}].controllable", "false with a cost model",
+                             "controllable = true for an input the allocation may change")
+    return reqs, sweeps, sens, design
 
 
 def load_study(path: str | Path) -> Study:

@@ -76,7 +76,7 @@ def test_malformed_values_rejected(old, new, key, demo_text, write_study, capsys
 
 
 def test_sample_columns_do_not_clash_and_stale_files_go(demo_text, write_study, tmp_path, capsys):
-    text = demo_text.replace('name = "T0 thermometer"', 'name = "speed"', 1)
+    text = demo_text.replace('"T0 thermometer"', '"speed"')
     path, out = write_study(text), tmp_path / "r"
     assert _run(path, out, capsys, "--trials", "500", "--samples", "csv")[0] == 0
     frame = pd.read_csv(out / "samples.csv")

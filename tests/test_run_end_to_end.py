@@ -41,14 +41,17 @@ def test_report_files(demo_run):
 
 def test_html_is_self_contained(demo_run):
     page = (demo_run / "report.html").read_text()
-    assert page.count("data:image/png;base64,") == 3  # histogram, envelope, Sobol
+    # histogram, envelope, Sobol, tightening and the demo's two sweeps
+    assert page.count("data:image/png;base64,") == 6
     assert "src=\"http" not in page and "href=\"http" not in page
 
 
 def test_report_sections(demo_run):
     md = (demo_run / "report.md").read_text()
     for heading in ("## Summary", "## Matched set point", "## Uncertain inputs",
-                    "## Sensitivity (Sobol indices)", "## Which input to control more tightly",
+                    "## Sensitivity (Sobol indices and uncertainty budget)",
+                    "## Which input to control more tightly",
+                    "## Requirements and the tolerances they allow", "## Tolerance sweeps",
                     "## Safety", "## Reproducibility"):
         assert heading in md
     assert "pressure-equipment code" in md and "not certification" in md

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import platform
-from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -11,34 +10,8 @@ import pandas as pd
 from .. import __version__
 from ..model import TARGETS, describe_output
 from ..units import DIMENSIONS
-
-
-@dataclass(frozen=True)
-class Block:
-    """``kind`` is one of heading, paragraph, table, figure, bullets."""
-
-    kind: str
-    content: object
-    level: int = 2
-    caption: str = ""
-
-
-def fmt(v) -> str:
-    if isinstance(v, (bool, np.bool_)):
-        return "yes" if v else "no"
-    if isinstance(v, (int, np.integer)):
-        return str(v)
-    if isinstance(v, (float, np.floating)):
-        if not np.isfinite(v):
-            return "n/a"
-        if abs(v) < 1e-13:
-            return "0"
-        return f"{v:.6g}"
-    return str(v)
-
-
-def _table(df: pd.DataFrame) -> pd.DataFrame:
-    return df.map(fmt)
+from . import decisions
+from .blocks import Block, fmt, table as _table
 
 
 SAFETY = [
@@ -66,6 +39,23 @@ def _state_line(st, o) -> str:
             f"temperature {o['static_temperature']:.2f} K, {model}.")
 
 
+def _first_to_tighten(result, sp) -> list[str]:
+    t = result.tightening
+    if not sp.feasible or t is None or not len(t) or not t["controllable"].any():
+        return []
+    name = t[t["controllable"]].index[0]
+    line = [f"Input to control more tightly first: {name} ({t.loc[name, 'perturbs']})."]
+    if result.allocation is not None and not result.allocation.message:
+        a = result.allocation
+        line.append(f"Allocation meeting every requirement: cost {fmt(a.cost)}; fresh Monte Carlo "
+                    f"check {'passed' if a.verified else 'FAILED'} (see the requirements section).")
+    elif result.requirement_checks is not None:
+        bad = [c.key for c in result.requirement_checks if not c.met]
+        line.append("Requirements at the written tolerances: " + (
+            "all met." if not bad else f"not met: {', '.join(bad)}."))
+    return line
+
+
 def build(result) -> list[Block]:
     st, sp = result.study, result.setpoint
     fs, fac = st.full_scale, st.facility
@@ -85,8 +75,7 @@ def build(result) -> list[Block]:
             f"{band.output} = {o[band.output]:.5g}" for band in st.bands) + ".",
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
-    ] + ([f"Input to control more tightly first: {result.ranking.index[0]} "
-          f"({result.ranking.iloc[0]['perturbs']})."] if len(result.ranking) and sp.feasible else [])
+    ] + _first_to_tighten(result, sp)
         + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
             "and the facility limits."] if not sp.feasible else [])
         + [f"Warning: {w}" for w in result.warnings])]
@@ -260,18 +249,10 @@ def build(result) -> list[Block]:
                                                 "contribution", "share_percent"]])))
 
     if result.inputs:
-        b.append(Block("heading", "Sensitivity (Sobol indices)"))
-        b.append(Block("paragraph", f"First-order S1 and total ST indices (SALib, "
-                       f"{st.run.sobol_base_samples} base samples, 95 % bootstrap half-widths)."))
-        for out, t in result.sobol.items():
-            b.append(Block("paragraph", f"**{out}**"))
-            b.append(Block("table", _table(t.reset_index())))
-        b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups."))
-        b.append(Block("heading", "Which input to control more tightly"))
-        b.append(Block("paragraph", "band share = 2 sqrt(ST var(y)) / tolerance: the expanded (k = 2) "
-                       "uncertainty an input brings to a matched group, as a fraction of that group's "
-                       "tolerance half-width. Ranked by the largest share."))
-        b.append(Block("table", _table(result.ranking.reset_index())))
+        b += decisions.sensitivity_blocks(result)
+        b += decisions.tightening_blocks(result)
+        b += decisions.requirement_blocks(result)
+        b += decisions.sweep_blocks(result)
 
     b.append(Block("heading", "Safety"))
     b.append(Block("bullets", [SAFETY[0], SAFETY[1].format(q=f"{o['dynamic_pressure'] / 1e3:.1f}"),
@@ -282,6 +263,7 @@ def build(result) -> list[Block]:
         ("simunc version", __version__), ("study file", st.path), ("study SHA-256", st.sha256),
         ("seed", str(result.seed)), ("trials", str(result.trials)),
         ("Sobol base samples", str(st.run.sobol_base_samples)),
+        ("design / verification trials", f"{st.design.trials} / {st.design.verify_trials}"),
         ("random generator", "numpy PCG64"),
         ("Python / numpy", f"{platform.python_version()} / {np.__version__}"),
     ], columns=["item", "value"])))

@@ -89,6 +89,67 @@ def envelope_map(result) -> bytes:
     return _png(fig)
 
 
+def tightening_bars(result) -> bytes:
+    """Drop of U (k = 2) over the tolerance half-width per group when one tolerance is halved."""
+    t = result.tightening
+    bands = result.study.bands
+    fig, ax = plt.subplots(figsize=(7.5, 0.42 * max(len(t), 3) + 1.4))
+    ypos = np.arange(len(t))
+    width = 0.8 / max(len(bands), 1)
+    for k, band in enumerate(bands):
+        gain = -t[f"delta_U_k2_{band.output}"].to_numpy(dtype=float) / band.tolerance
+        ax.barh(ypos + (k - (len(bands) - 1) / 2) * width, gain, width, label=band.group)
+    labels = [n if c else f"{n} (condition)" for n, c in zip(t.index, t["controllable"])]
+    ax.set_yticks(ypos, labels, fontsize=8)
+    ax.invert_yaxis()
+    ax.set_xlabel("drop of U (k = 2) when the tolerance is halved / band half-width")
+    ax.set_title("What halving one tolerance buys")
+    ax.grid(True, axis="x", alpha=0.3)
+    ax.legend(fontsize=8, loc="best")
+    return _png(fig)
+
+
+def sweep_plot(result, sw) -> bytes:
+    """1-D: U/tolerance and conformity against the scale; 2-D: contours over the two scales."""
+    bands = result.study.bands
+    tab = sw.table
+    if len(sw.inputs) == 1:
+        s = tab[f"scale: {sw.inputs[0]}"].to_numpy(dtype=float)
+        fig, ax = plt.subplots(figsize=(7.0, 4.0))
+        for band in bands:
+            ax.plot(s, tab[f"U_k2_{band.output}"] / band.tolerance, marker="o", ms=3,
+                    label=f"U (k = 2) of {band.output} / tolerance")
+        ax.axvline(1.0, color="grey", lw=0.8, ls=":")
+        ax.set_xlabel(f"tolerance scale of {sw.inputs[0]}")
+        ax.set_ylabel("U (k = 2) / band half-width")
+        ax.grid(True, alpha=0.3)
+        ax2 = ax.twinx()
+        ax2.plot(s, tab["conformity_all"], color="black", lw=1.5, label="P(all groups in band)")
+        ax2.set_ylabel("conformity probability")
+        h1, l1 = ax.get_legend_handles_labels()
+        h2, l2 = ax2.get_legend_handles_labels()
+        ax.legend(h1 + h2, l1 + l2, fontsize=7, loc="best")
+        ax.set_title(f"Tolerance sweep: {sw.inputs[0]}")
+        return _png(fig)
+    a, b = sw.scales
+    shape = (len(a), len(b))
+    fig, axes = plt.subplots(1, 2, figsize=(11.0, 4.4))
+    conf = tab["conformity_all"].to_numpy(dtype=float).reshape(shape)
+    band = bands[0]
+    u = (tab[f"U_k2_{band.output}"].to_numpy(dtype=float) / band.tolerance).reshape(shape)
+    for ax, z, title in ((axes[0], conf, "P(all groups in band)"),
+                         (axes[1], u, f"U (k = 2) of {band.output} / tolerance")):
+        cs = ax.contourf(b, a, z, levels=12, cmap="viridis")
+        lines = ax.contour(b, a, z, levels=6, colors="white", linewidths=0.6)
+        ax.clabel(lines, fontsize=7, fmt="%.3g")
+        fig.colorbar(cs, ax=ax)
+        ax.plot(1.0, 1.0, marker="o", color="red", ms=5)
+        ax.set_xlabel(f"tolerance scale of {sw.inputs[1]}")
+        ax.set_ylabel(f"tolerance scale of {sw.inputs[0]}")
+        ax.set_title(title, fontsize=9)
+    return _png(fig)
+
+
 def all_figures(result) -> dict[str, bytes]:
     """File name -> PNG bytes."""
     figs = {"reynolds_ratio_histogram.png": reynolds_histogram(result)}
@@ -96,4 +157,8 @@ def all_figures(result) -> dict[str, bytes]:
         figs["envelope_map.png"] = envelope_map(result)
     if result.inputs:
         figs["sobol_indices.png"] = sobol_bars(result)
+    if result.tightening is not None and len(result.tightening):
+        figs["tightening.png"] = tightening_bars(result)
+    for i, sw in enumerate(result.sweeps, start=1):
+        figs[f"sweep_{i}.png"] = sweep_plot(result, sw)
     return figs

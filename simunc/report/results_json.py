@@ -16,7 +16,7 @@ def _clean(v):
     if isinstance(v, float):
         return v if math.isfinite(v) else None
     if isinstance(v, dict):
-        return {k: _clean(x) for k, x in v.items()}
+        return {str(k): _clean(x) for k, x in v.items()}
     if isinstance(v, (list, tuple)):
         return [_clean(x) for x in v]
     if hasattr(v, "item"):
@@ -24,9 +24,41 @@ def _clean(v):
     return v
 
 
+def _check(c) -> dict:
+    return {"requirement": c.key, "statement": c.text, "kind": c.kind, "output": c.output,
+            "value": c.value, "limit": c.limit, "met": c.met}
+
+
+def _requirements(result):
+    if result.requirement_checks is None:
+        return None
+    a = result.allocation
+    lim = result.input_limits
+    return {
+        "design_trials": result.design_trials,
+        "verify_trials": result.study.design.verify_trials,
+        "as_written": [_check(c) for c in result.requirement_checks],
+        "input_limits": None if lim is None else [{"input": n, **row} for n, row in lim.iterrows()],
+        "allocation": None if a is None else {
+            "kind": a.kind, "cost": a.cost, "cost_as_written": a.cost_written,
+            "message": a.message or None, "rounds": a.rounds,
+            "scales": {i.name: float(v) for i, v in zip(result.inputs, a.scale)},
+            "grades": dict(a.grades),
+            "verified": a.verified if not a.message else False,
+            "fails_when_loosened": a.fails_loosened if not a.message else None,
+            "design": [_check(c) for c in a.design_checks],
+            "verification": {"trials": a.verify_trials, "seed": a.verify_seed,
+                             "checks": [_check(c) for c in a.verification]},
+            "loosened": [_check(c) for c in a.loosened],
+            "instrument_requirements": a.table.to_dict(orient="records"),
+        },
+    }
+
+
 def results_dict(result) -> dict:
     """All figures of a run under stable keys, SI units."""
     st, sp = result.study, result.setpoint
+    sr = result.sobol_result
     outputs = {}
     for key, row in result.statistics.iterrows():
         outputs[key] = {
@@ -105,8 +137,30 @@ def results_dict(result) -> dict:
                       "confidence half-widths (*_conf)",
             "indices": {out: {name: dict(row) for name, row in table.iterrows()}
                         for out, table in result.sobol.items()},
+            "second_order": None if sr is None or sr.second_order is None else {
+                out: [{"inputs": list(pair), **row} for pair, row in t.iterrows()]
+                for out, t in sr.second_order.items()},
+            "groups": None if sr is None or sr.groups is None else {
+                "members": {g: list(m) for g, m in sr.group_members.items()},
+                "indices": {out: {g: dict(row) for g, row in t.iterrows()}
+                            for out, t in sr.groups.items()}},
+            "shapley": None if result.shapley is None else {
+                out: {name: dict(row) for name, row in t.iterrows()}
+                for out, t in result.shapley.items()},
+            "budgets": None if result.lpu is None else {
+                b.output: {term: {k: row[k] for k in ("kind", "sensitivity", "standard_uncertainty",
+                                                       "correlation", "contribution",
+                                                       "share_percent")}
+                           for term, row in result.lpu.budget(b.output).iterrows()}
+                for b in st.bands if b.output in result.lpu.budgets},
         },
         "ranking": [{"input": name, **row} for name, row in result.ranking.iterrows()],
+        "tightening": None if result.tightening is None else [
+            {"input": name, **row} for name, row in result.tightening.iterrows()],
+        "requirements": _requirements(result),
+        "sweeps": [{"key": sw.key, "inputs": list(sw.inputs),
+                    "scales": [[float(v) for v in s] for s in sw.scales],
+                    "points": sw.table.to_dict(orient="records")} for sw in result.sweeps],
         "envelope": None if result.envelope is None else {
             "abscissa": result.envelope.abscissa,
             "x": [float(v) for v in result.envelope.x],

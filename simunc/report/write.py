@@ -14,7 +14,10 @@ from .results_json import results_json
 SAMPLE_FORMATS = ("csv", "parquet")
 #: Every file a report folder may hold; those a run does not write are removed (no stale files).
 REPORT_FILES = ("report.md", "report.html", "results.json", "reynolds_ratio_histogram.png",
-                "envelope_map.png", "sobol_indices.png", "samples.csv", "samples.parquet")
+                "envelope_map.png", "sobol_indices.png", "tightening.png", "samples.csv",
+                "samples.parquet")
+#: Numbered figures of a report (``sweep_1.png``, ...): those a run does not write are removed too.
+REPORT_PATTERNS = ("sweep_*.png",)
 
 
 def check_out_dir(out_dir) -> Path:
@@ -82,9 +85,11 @@ def write_report(result, out_dir: str | os.PathLike, samples: str | None = None)
         for name in files:
             os.replace(tmp / name, out / name)
             written.append(out / name)
-        for name in REPORT_FILES:
-            if name not in files and (out / name).is_file():
-                (out / name).unlink()
+        stale = [out / n for n in REPORT_FILES] + [p for pat in REPORT_PATTERNS
+                                                   for p in out.glob(pat)]
+        for path in stale:
+            if path.name not in files and path.is_file():
+                path.unlink()
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
     return written

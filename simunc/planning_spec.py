@@ -1,0 +1,277 @@
+"""Study keys of the decision part: requirements, costs, sweeps, sensitivity options.
+
+Parsed once at load, like the rest of the study (:mod:`simunc.study`), into
+frozen dataclasses holding SI floats.  The analyses that use them live in
+:mod:`simunc.tolerances` (tolerance sweeps, "control this more tightly") and
+:mod:`simunc.requirements` (the requirement solver and the allocation).
+
+A *tolerance scale* s of an input multiplies every drawn deviation of that
+input: its distribution keeps its shape and its standard uncertainty becomes
+s u.  Costs and grades are written against the expanded uncertainty U = 2 u
+(k = 2) of the input, the figure an instrument requirement states.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from .errors import StudyError
+from .model import TARGETS
+from .study_table import Table, check_finite
+from .units import Parsed, parse
+
+#: Targets that are conditions or property models, not facility instruments or controls: they
+#: are ranked apart and left as written by the allocation unless marked ``controllable = true``.
+UNCONTROLLED_TARGETS = ("full_scale_temperature", "full_scale_speed", "full_scale_mach",
+                        "full_scale_frequency", "viscosity_model", "density_model",
+                        "sutherland_constant")
+REQUIREMENT_KINDS = ("expanded_uncertainty", "within", "conformity")
+_REQUIREMENT_KEYS = ("output", "group", "expanded_uncertainty", "coverage_probability", "within",
+                     "probability", "conformity", "note")
+_COST_KEYS = ("at_written", "exponent")
+_GRADE_KEYS = ("expanded_uncertainty", "price", "name")
+_SWEEP_KEYS = ("inputs", "scale", "points", "spacing")
+_SENSITIVITY_KEYS = ("second_order", "groups", "shapley")
+_DESIGN_KEYS = ("trials", "verify_trials", "largest_scale")
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """One accuracy requirement of the test plan.
+
+    ``kind``:
+
+    * ``expanded_uncertainty``: U_p(y) <= ``limit`` (SI, or a fraction of the
+      nominal value when ``relative``), U_p the half-length of the
+      probabilistically symmetric coverage interval at ``probability``;
+    * ``within``: P(|y - centre| <= ``limit``) >= ``probability``;
+    * ``conformity``: P(every band of ``groups`` holds) >= ``probability``.
+    """
+
+    key: str
+    kind: str
+    output: str | None
+    groups: tuple
+    limit: float
+    relative: bool
+    probability: float
+    text: str
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class CostModel:
+    """Cost of an input's tolerance.
+
+    ``kind = "power"``: cost(U) = ``at_written`` (U_written / U)^``exponent``.
+    ``kind = "grades"``: a list of ``(name, U [Parsed, k = 2], price)``: one is chosen.
+    """
+
+    kind: str
+    at_written: float = 0.0
+    exponent: float = 1.0
+    grades: tuple = ()
+    key: str = ""
+
+
+@dataclass(frozen=True)
+class Sweep:
+    """A tolerance sweep of one or two inputs (scales from ``scale[0]`` to ``scale[1]``)."""
+
+    key: str
+    inputs: tuple
+    scale: tuple
+    points: int
+    spacing: str = "linear"
+
+
+@dataclass(frozen=True)
+class SensitivitySettings:
+    second_order: bool = False
+    groups: dict = field(default_factory=dict)
+    shapley: str = "auto"  # "auto" (when inputs are correlated), "yes", "no"
+
+
+@dataclass(frozen=True)
+class DesignSettings:
+    """Trials of the common-random-number sample and of the fresh verification run."""
+
+    trials: int = 50_000
+    verify_trials: int = 200_000
+    largest_scale: float = 100.0
+
+
+def _fraction(t: Table, name: str, what: str) -> float:
+    return t.number(name, low=0.0, high=1.0, low_open=True, high_open=True, allow_percent=True,
+                    what=what)
+
+
+def requirement(data: Any, index: int, bands, outputs) -> Requirement:
+    """One ``[[requirement]]`` table (see the README)."""
+    t = Table(data, f"requirement[{index}]", _REQUIREMENT_KEYS)
+    kind = t.exclusive(REQUIREMENT_KINDS)
+    groups = {b.group: b for b in bands}
+    if t.has("output") and t.has("group"):
+        raise StudyError(t.key("group"), t.data["group"], "either output or group, not both")
+    output = None
+    if t.has("group"):
+        g = t.choice("group", {k: k for k in groups})
+        output = groups[g].output
+    elif t.has("output"):
+        output = t.choice("output", {k: k for k in outputs})
+    note = t.text("note", "")
+    if kind == "conformity":
+        if t.has("output"):
+            raise StudyError(t.key("output"), t.data["output"], "group (a matched group) or "
+                             "nothing (every group) for a conformity requirement")
+        chosen = (t.data["group"],) if t.has("group") else tuple(groups)
+        if not chosen:
+            raise StudyError(t.key("conformity"), t.data["conformity"], "a study with [match] "
+                             "bands for a conformity requirement")
+        p = _fraction(t, "conformity", "a probability above 0 and below 1 such as '95 %'")
+        for k in ("within", "probability", "coverage_probability"):
+            if t.has(k):
+                raise StudyError(t.key(k), t.data[k], "no such key with conformity")
+        return Requirement(t.prefix, kind, None, chosen, 0.0, False, p,
+                           f"P({' and '.join(chosen)} in band) >= {t.data['conformity']}", note)
+    if output is None:
+        t.require("output", "the output (or group) the requirement is on")
+    nominal_zero = output.endswith("_difference")
+    raw = t.data[kind]
+    size = parse(t.key(kind), raw, _output_dimension(output), allow_relative=True)
+    if size.relative and nominal_zero:
+        raise StudyError(t.key(kind), raw, f"a plain number for {output} (its set-point value is "
+                         "zero, so a % of it means nothing)")
+    check_finite(t.key(kind), raw, size.value)
+    if size.value <= 0.0:
+        raise StudyError(t.key(kind), raw, "a limit greater than zero")
+    if kind == "expanded_uncertainty":
+        if t.has("probability"):
+            raise StudyError(t.key("probability"), t.data["probability"], "coverage_probability "
+                             "with expanded_uncertainty (probability goes with within)")
+        p = _fraction(t, "coverage_probability", "a probability above 0 and below 1") \
+            if t.has("coverage_probability") else None
+        text = f"U{'' if p is None else f'({p:g})'} of {output} <= {raw}"
+        return Requirement(t.prefix, kind, output, (), size.value, size.relative,
+                           -1.0 if p is None else p, text, note)
+    if t.has("coverage_probability"):
+        raise StudyError(t.key("coverage_probability"), t.data["coverage_probability"],
+                         "probability with within")
+    t.require("probability", "the probability that the output stays within the limit, e.g. '95 %'")
+    p = _fraction(t, "probability", "a probability above 0 and below 1 such as '95 %'")
+    return Requirement(t.prefix, kind, output, (), size.value, size.relative, p,
+                       f"P(|{output} - centre| <= {raw}) >= {t.data['probability']}", note)
+
+
+def _output_dimension(output: str) -> str:
+    from .model import describe_output
+    from .units import DIMENSIONS
+    unit = describe_output(output)[0]
+    for dim, (_, label, _) in DIMENSIONS.items():
+        if label == unit and dim != "temperature":  # a limit on a temperature is a difference
+            return dim
+    return "dimensionless"
+
+
+def cost_model(t: Table, targets: tuple) -> CostModel | None:
+    """``cost = {at_written, exponent}`` or ``grades = [{expanded_uncertainty, price}, ...]``."""
+    which = t.exclusive(("cost", "grades"), required=False)
+    if which is None:
+        return None
+    if which == "cost":
+        c = Table(t.data["cost"], t.key("cost"), _COST_KEYS)
+        at = c.number("at_written", low=0.0, low_open=True, what="the cost (a number above 0) at "
+                      "the tolerance as written")
+        b = c.number("exponent", default=1.0, low=0.0, low_open=True,
+                     what="an exponent above 0 (cost grows as (U_written / U)^exponent)")
+        return CostModel("power", at, b, key=t.key("cost"))
+    raw = t.data["grades"]
+    if not isinstance(raw, list) or not raw:
+        raise StudyError(t.key("grades"), raw, "a non-empty list of {expanded_uncertainty, price} "
+                         "tables")
+    grades = []
+    for j, item in enumerate(raw):
+        g = Table(item, t.key(f"grades[{j}]"), _GRADE_KEYS)
+        u = g.require("expanded_uncertainty", "U at k = 2 of this grade")
+        has_reading = any(TARGETS[x].reading is not None for x in targets)
+        size = parse(g.key("expanded_uncertainty"), u, TARGETS[targets[0]].dimension,
+                     allow_relative=has_reading)
+        if not has_reading:
+            size = Parsed(size.value, True)
+        check_finite(g.key("expanded_uncertainty"), u, size.value)
+        if size.value <= 0.0:
+            raise StudyError(g.key("expanded_uncertainty"), u, "an uncertainty greater than zero")
+        price = g.number("price", low=0.0, what="a price of zero or more")
+        grades.append((g.text("name", f"U = {u}"), size, price, str(u)))
+    return CostModel("grades", grades=tuple(grades), key=t.key("grades"))
+
+
+def controllable(t: Table, targets: tuple) -> bool:
+    """``controllable``: default false for conditions and property models, else true."""
+    return t.flag("controllable", not all(x in UNCONTROLLED_TARGETS for x in targets))
+
+
+def sweep(data: Any, index: int, names: list[str]) -> Sweep:
+    t = Table(data, f"sweep[{index}]", _SWEEP_KEYS)
+    chosen = t.names("inputs")
+    if not 1 <= len(chosen) <= 2 or len(set(chosen)) != len(chosen):
+        raise StudyError(t.key("inputs"), list(chosen), "one or two different input names")
+    for j, n in enumerate(chosen):
+        if n not in names:
+            Table({f"inputs[{j}]": n}, t.prefix, (f"inputs[{j}]",)).choice(
+                f"inputs[{j}]", {k: k for k in names})
+    lo, hi = scale_range(t.key("scale"), t.data.get("scale", [0.1, 3.0]))
+    points = t.integer("points", 15 if len(chosen) == 1 else 11, 3)
+    if points > 200:
+        raise StudyError(t.key("points"), points, "at most 200 points per input")
+    spacing = t.choice("spacing", {"linear": "linear", "log": "log"}, default="linear")
+    return Sweep(t.prefix, tuple(chosen), (lo, hi), points, spacing)
+
+
+def scale_range(key: str, raw: Any) -> tuple[float, float]:
+    """``[low, high]`` tolerance scales, 0 <= low < high (0 only for linear spacing)."""
+    ok = isinstance(raw, (list, tuple)) and len(raw) == 2 and all(
+        isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw)
+    if not ok or not (0.0 <= raw[0] < raw[1] <= 1000.0):
+        raise StudyError(key, raw, "two tolerance scales [low, high] with 0 <= low < high <= 1000, "
+                         "e.g. [0.1, 3]")
+    return float(raw[0]), float(raw[1])
+
+
+def sensitivity(data: Any, names: list[str]) -> SensitivitySettings:
+    t = Table(data, "sensitivity", _SENSITIVITY_KEYS)
+    groups = {}
+    if t.has("groups"):
+        raw = t.data["groups"]
+        if not isinstance(raw, dict) or not raw:
+            raise StudyError(t.key("groups"), raw, "a table of group name = [input names]")
+        seen: dict[str, str] = {}
+        for g, members in raw.items():
+            key = f"{t.key('groups')}.{g}"
+            if not isinstance(members, list) or not members or \
+                    not all(isinstance(m, str) for m in members):
+                raise StudyError(key, members, "a non-empty list of input names")
+            for j, m in enumerate(members):
+                if m not in names:
+                    Table({f"{g}[{j}]": m}, t.key("groups"), (f"{g}[{j}]",)).choice(
+                        f"{g}[{j}]", {k: k for k in names})
+                if m in seen:
+                    raise StudyError(key, repr(m), f"each input in one group only (already in "
+                                     f"{seen[m]!r})")
+                seen[m] = g
+            groups[g] = tuple(members)
+    shapley = t.data.get("shapley", "auto")
+    if shapley not in ("auto", True, False):
+        raise StudyError(t.key("shapley"), shapley, "'auto' (when inputs are correlated), true or "
+                         "false")
+    return SensitivitySettings(t.flag("second_order", False), groups,
+                               {True: "yes", False: "no"}.get(shapley, "auto"))
+
+
+def design(data: Any) -> DesignSettings:
+    t = Table(data, "design", _DESIGN_KEYS)
+    largest = t.number("largest_scale", default=100.0, low=1.0, high=1e4, low_open=True,
+                       what="a tolerance scale above 1 (how far the solver may loosen an input)")
+    return DesignSettings(t.integer("trials", 50_000, 1000),
+                          t.integer("verify_trials", 200_000, 1000), largest)

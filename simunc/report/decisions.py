@@ -1,0 +1,173 @@
+"""Report blocks of the decision part: sensitivity, tightening, requirements, sweeps."""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from ..requirements import LOOSEN
+from .blocks import Block, fmt, table
+
+
+def sensitivity_blocks(result) -> list[Block]:
+    st = result.study
+    b = [Block("heading", "Sensitivity (Sobol indices and uncertainty budget)")]
+    sr = result.sobol_result
+    b.append(Block("paragraph", f"First-order S1 and total ST Sobol indices ({st.run.sobol_base_samples} "
+                   "base samples, Saltelli design on a scrambled Sobol sequence, 95 % bootstrap "
+                   "half-widths in the *_conf columns), beside the GUM budget of the same output: "
+                   "sensitivity coefficient c, standard uncertainty u(x) and the share of the "
+                   "combined variance c² u² / u_c² (JCGM 100, 5.1)."))
+    if st.correlation is not None:
+        b.append(Block("paragraph", "**The study correlates inputs.** Sobol indices assume "
+                       "independent inputs; the Shapley effects below account for the dependence "
+                       "and drive the ranking of what to control more tightly."))
+    for band in st.bands:
+        out = band.output
+        t = result.sobol[out].copy()
+        if result.lpu is not None and out in result.lpu.budgets:
+            bud = result.lpu.budget(out)
+            rows = bud[bud["kind"] == "input"]
+            t["c"] = rows["sensitivity"].reindex(t.index)
+            t["u(x)"] = rows["standard_uncertainty"].reindex(t.index)
+            t["budget share %"] = rows["share_percent"].reindex(t.index)
+            corr = bud[bud["kind"] == "correlation"]
+        else:
+            corr = pd.DataFrame()
+        b.append(Block("paragraph", f"**{out}**"))
+        b.append(Block("table", table(t.reset_index())))
+        if len(corr):
+            b.append(Block("paragraph", "Correlation terms of the budget: " + "; ".join(
+                f"{k}: {fmt(v)} %" for k, v in corr["share_percent"].items()) + "."))
+    b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups."))
+    if sr is not None and sr.second_order is not None:
+        b.append(Block("paragraph", "Second-order indices S2 (interactions of two inputs):"))
+        for out, t in sr.second_order.items():
+            t = t.reset_index()
+            t = t.reindex(t["S2"].abs().sort_values(ascending=False).index).head(10)
+            b.append(Block("paragraph", f"**{out}** (largest ten)"))
+            b.append(Block("table", table(t)))
+    if sr is not None and sr.groups is not None:
+        b.append(Block("paragraph", "Grouped indices (closed first-order and total index of each "
+                       "group): " + "; ".join(f"{g} = {', '.join(m)}" for g, m in
+                                               sr.group_members.items() if len(m) > 1) + "."))
+        for out, t in sr.groups.items():
+            b.append(Block("paragraph", f"**{out}**"))
+            b.append(Block("table", table(t.reset_index())))
+    if result.shapley is not None:
+        b.append(Block("paragraph", "Shapley effects under the Gaussian copula of the study "
+                       "(Song, Nelson & Staum 2016): each input's share of Var(y), dependence "
+                       "included (they add up to 1); first_order_full = Var(E[y | x_i]) / Var(y) "
+                       "is the share removed if the input were known exactly, total_full = "
+                       "E[Var(y | x_~i)] / Var(y)."))
+        for out, t in result.shapley.items():
+            b.append(Block("paragraph", f"**{out}**"))
+            b.append(Block("table", table(t.reset_index())))
+    return b
+
+
+def tightening_blocks(result) -> list[Block]:
+    st = result.study
+    b = [Block("heading", "Which input to control more tightly")]
+    t = result.tightening
+    if t is not None and len(t):
+        src = "Shapley first_order_full" if result.shapley is not None else "Sobol S1"
+        b.append(Block("paragraph", f"For each input: the variance of each matched group removed "
+                       f"if the input were known exactly ({src} × Var(y)), and, on "
+                       f"{result.design_trials} common-random-number trials, the expanded "
+                       "uncertainty U = 2u (k = 2) and the probability that every group is inside "
+                       "its band with that input's tolerance halved. gain = the largest drop of U "
+                       "over a group's tolerance half-width. Facility instruments and controls "
+                       "come first; conditions and property models (controllable = false) follow "
+                       "— a tighter tolerance there means better data, not a better facility."))
+        cols = ["rank", "perturbs", "controllable"]
+        for band in st.bands:
+            cols += [f"variance_removed_percent_{band.output}", f"delta_U_k2_{band.output}"]
+        cols += ["delta_conformity", "gain_bands"]
+        b.append(Block("table", table(t[cols].reset_index())))
+        top = t[t["controllable"]]
+        if len(top):
+            b.append(Block("paragraph", f"Control more tightly first: **{top.index[0]}** "
+                           f"(halving its tolerance cuts U by {fmt(top.iloc[0]['gain_bands'])} of "
+                           "a band half-width)."))
+        b.append(Block("figure", "tightening.png", caption="Drop of the expanded uncertainty "
+                       "(k = 2), in tolerance half-widths, when one input's tolerance is halved."))
+    b.append(Block("paragraph", "band share = 2 sqrt(ST var(y)) / tolerance: the expanded (k = 2) "
+                   "uncertainty an input brings to a matched group, as a fraction of that group's "
+                   "tolerance half-width, from the Sobol total index."))
+    b.append(Block("table", table(result.ranking.reset_index())))
+    return b
+
+
+def _checks(checks) -> pd.DataFrame:
+    return pd.DataFrame([(c.key, c.text, c.value, c.limit, "met" if c.met else "NOT met")
+                         for c in checks], columns=["requirement", "statement", "value", "limit",
+                                                    "status"])
+
+
+def requirement_blocks(result) -> list[Block]:
+    st = result.study
+    if result.requirement_checks is None:
+        return []
+    ds = st.design
+    b = [Block("heading", "Requirements and the tolerances they allow")]
+    b.append(Block("paragraph", f"At the tolerances as written ({ds.verify_trials} fresh Monte "
+                   "Carlo trials). U is the half-length of the probabilistically symmetric "
+                   "coverage interval; a % limit is a fraction of the output's set-point value."))
+    b.append(Block("table", table(_checks(result.requirement_checks))))
+    lim = result.input_limits
+    if lim is not None and len(lim):
+        b.append(Block("paragraph", f"Largest tolerance of each input alone (the others as "
+                       f"written) that meets every requirement, on {ds.trials} common-random-number "
+                       f"trials with a margin against the noise of the design and verification samples (three "
+                       "standard errors of their difference). 'others break "
+                       "it': the other inputs alone already break a requirement; 'not limiting': "
+                       f"met up to {ds.largest_scale:g} times the written tolerance."))
+        b.append(Block("table", table(lim[["perturbs", "status", "largest_scale", "U_k2_written",
+                                           "U_k2_allowed", "unit"]].reset_index())))
+    a = result.allocation
+    if a is None:
+        b.append(Block("paragraph", "No input has a cost model (`cost` or `grades`), so no "
+                       "allocation was made."))
+        return b
+    b.append(Block("heading", "Allocation at least cost", 3))
+    if a.message:
+        b.append(Block("paragraph", f"**No allocation meets the requirements:** {a.message}."))
+    else:
+        how = ("continuous costs, minimised under a Gaussian surrogate of the requirements "
+               f"(GUM sensitivities, calibrated on the design sample; {a.rounds} rounds)"
+               if a.kind == "power" else f"instrument grades, cheapest combination that meets "
+               f"the requirements ({a.rounds} combinations checked on the design sample)")
+        extra = f" (as written: {fmt(a.cost_written)})" if a.cost_written is not None else ""
+        b.append(Block("paragraph", f"Method: {how}. Total cost {fmt(a.cost)}{extra}."))
+        b.append(Block("paragraph", f"Verification by a fresh Monte Carlo run ({a.verify_trials} "
+                       f"trials, independent seed stream): **{'every requirement met' if a.verified else 'NOT every requirement met'}**. "
+                       f"With every tolerance loosened by {100 * (LOOSEN - 1):.0f} %: "
+                       f"{'some requirement fails (the allocation is tight)' if a.fails_loosened else 'still met (the allocation has slack)'}."))
+        rows = [(c.key, c.text, c.value, v.value, c.limit, "met" if c.met else "NOT met")
+                for c, v in zip(a.verification, a.loosened)]
+        b.append(Block("table", table(pd.DataFrame(rows, columns=[
+            "requirement", "statement", "achieved", f"loosened ×{LOOSEN:g}", "limit", "status"]))))
+    b.append(Block("paragraph", "Instrument and control requirements for the test plan (allowed "
+                   "expanded uncertainty at k = 2, i.e. twice the standard uncertainty, with the "
+                   "distribution assumed):"))
+    b.append(Block("table", table(a.table)))
+    return b
+
+
+def sweep_blocks(result) -> list[Block]:
+    if not result.sweeps:
+        return []
+    st = result.study
+    b = [Block("heading", "Tolerance sweeps")]
+    b.append(Block("paragraph", f"Each swept input's tolerance is multiplied by the scale (its "
+                   f"distribution keeps its shape); the other inputs stay as written. All points use "
+                   f"the same {result.design_trials} trials (common random numbers), so the curves "
+                   "are smooth and their differences carry little Monte Carlo noise."))
+    for i, sw in enumerate(result.sweeps, start=1):
+        b.append(Block("paragraph", f"**{sw.key}**: {' and '.join(sw.inputs)}, scale "
+                       f"{fmt(float(sw.scales[0][0]))} to {fmt(float(sw.scales[0][-1]))}."))
+        b.append(Block("figure", f"sweep_{i}.png", caption=f"Sweep {i}: " + ", ".join(sw.inputs)))
+        if len(sw.inputs) == 1:
+            cols = [c for c in sw.table.columns if c.startswith(("scale", "U_k2", "conformity_all"))]
+            b.append(Block("table", table(sw.table[cols])))
+    return b

@@ -1,0 +1,438 @@
+"""The inverse problem: the tolerances a set of accuracy requirements allows.
+
+Requirements (:class:`simunc.planning_spec.Requirement`) are checked on Monte
+Carlo trials: ``U_p(y) <= limit`` (half-length of the probabilistically
+symmetric coverage interval, JCGM 101:2008 7.7), ``P(|y - c| <= w) >= p`` and
+the conformity probability of the tolerance bands ``>= p`` (JCGM 106:2012).
+
+* :func:`input_limits`: for each input alone (the others as written), the
+  largest tolerance scale that still meets every requirement, by bracketing
+  and geometric bisection on the common-random-number design sample.
+* :func:`allocate`: the cheapest tolerances over the inputs with a cost model.
+  A continuous cost ``c_i (U_written / U)^b_i`` is minimised under a Gaussian
+  surrogate of the requirements built from the GUM sensitivity coefficients
+  (variance of y = (c o s)^T V (c o s), V the input covariance) and calibrated
+  on the design sample (its bias, coverage-factor and nonlinearity ratios);
+  the surrogate optimum is then scaled by a common factor until the design
+  sample meets the requirements with a margin, and the surrogate is calibrated
+  again there (three rounds).  With instrument grades every combination is
+  costed, the surrogate screens them and the cheapest combinations are checked
+  on the design sample in order of price.  The chosen allocation is verified by
+  a fresh Monte Carlo run (an independent seed stream), which also reports
+  whether it still holds with every tolerance loosened by 10 %.
+
+The design sample is finite and the verification run is another finite
+sample, so the search asks for a margin of three standard errors of the
+difference between the two (common practice, no source): probabilities above
+the required value by 3 sqrt(p (1 - p) (1/n_design + 1/n_verify)) (binomial),
+U below its limit by the relative margin 3 x 0.96 sqrt(1/n_design + 1/n_verify),
+0.96/sqrt(n) being the relative standard error of the half-length of a 95 %
+interval of a normal output (quantile standard error sqrt(p(1 - p)/n) / f(y_p)
+with the two endpoints' errors combined, e.g. H. A. David, H. N. Nagaraja,
+*Order Statistics*, 3rd ed., Wiley, 2003, 10.2 (from memory of that book)).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from itertools import product
+
+import numpy as np
+import pandas as pd
+from scipy import optimize, special
+
+from .model import TARGETS
+from .statistics import symmetric_interval
+from .units import DIMENSIONS
+
+#: Relative standard error of the half-length of a 95 % interval times sqrt(n) (normal output).
+U_RELATIVE_SE = 0.96
+
+
+def margins(n_design: int, n_verify: int, p: float | None = None) -> float:
+    """Search margin: relative for U (``p`` None), absolute for a probability ``p``.
+
+    >>> round(margins(50_000, 200_000), 4), round(margins(50_000, 200_000, 0.95), 4)
+    (0.0144, 0.0033)
+    """
+    f = math.sqrt(1.0 / n_design + 1.0 / n_verify)
+    return 3.0 * (U_RELATIVE_SE * f if p is None else math.sqrt(p * (1.0 - p)) * f)
+#: Loosening factor of the robustness check of an allocation.
+LOOSEN = 1.10
+#: Grade combinations the allocation enumerates at most, and design-sample checks at most.
+MAX_COMBINATIONS, MAX_CHECKS = 200_000, 60
+
+
+@dataclass(frozen=True)
+class Check:
+    """One requirement evaluated on a set of trials."""
+
+    key: str
+    text: str
+    kind: str
+    value: float      # U_p [unit of y] or a probability
+    limit: float      # the limit of U [unit of y] or the required probability
+    met: bool
+    output: str | None = None
+
+
+def centre_of(output: str, study, setpoint) -> float:
+    """Band centre of a matched-group output, else its set-point value."""
+    for band in study.bands:
+        if band.output == output:
+            return band.centre
+    return float(setpoint.outputs[output])
+
+
+def _limit(req, study, setpoint) -> float:
+    if req.relative:
+        return req.limit * abs(float(setpoint.outputs[req.output]))
+    return req.limit
+
+
+def check_all(requirements, y, study, setpoint, p: float, *, trials: int, margin: bool = False,
+              finite: bool = True) -> list[Check]:
+    """Evaluate every requirement on trials ``y`` (a dict of output arrays).
+
+    ``margin``: ask for the search margins of :func:`margins` (``trials`` design
+    trials against the study's ``design.verify_trials``).
+    """
+    out = []
+    nv = study.design.verify_trials
+    se = (lambda q: margins(trials, nv, q)) if margin else (lambda q: 0.0)
+    u_margin = margins(trials, nv) if margin else 0.0
+    for r in requirements:
+        if not finite:
+            out.append(Check(r.key, r.text, r.kind, np.nan, np.nan, False, r.output))
+            continue
+        if r.kind == "expanded_uncertainty":
+            v = np.asarray(y[r.output])
+            lo, hi = symmetric_interval(v, r.probability if r.probability > 0 else p)
+            value, limit = 0.5 * (hi - lo), _limit(r, study, setpoint)
+            met = value <= limit * (1.0 - u_margin)
+        elif r.kind == "within":
+            v = np.asarray(y[r.output])
+            value = float(np.mean(np.abs(v - centre_of(r.output, study, setpoint))
+                                  <= _limit(r, study, setpoint)))
+            limit = r.probability
+            met = value >= limit + se(limit)
+        else:
+            inside = np.ones(len(next(iter(y.values()))), dtype=bool)
+            for g in r.groups:
+                band = study.band(g)
+                inside &= np.abs(np.asarray(y[band.output]) - band.centre) <= band.tolerance
+            value, limit = float(np.mean(inside)), r.probability
+            met = value >= limit + se(limit)
+        out.append(Check(r.key, r.text, r.kind, float(value), float(limit), bool(met), r.output))
+    return out
+
+
+def checks_table(checks) -> pd.DataFrame:
+    return pd.DataFrame([{"requirement": c.key, "text": c.text, "value": c.value,
+                          "limit": c.limit, "met": c.met} for c in checks])
+
+
+# ---------------------------------------------------------------------------
+# (a) one input at a time
+# ---------------------------------------------------------------------------
+def _largest_scale(ok, largest: float, iterations: int = 10) -> tuple[float, str]:
+    """Largest s in [0, largest] with ``ok(s)`` (assumed monotone), and a status word."""
+    if not ok(0.0):
+        return 0.0, "others break it"
+    if ok(1.0):
+        lo = 1.0
+        while lo < largest:
+            hi = min(2.0 * lo, largest)
+            if not ok(hi):
+                break
+            lo = hi
+        else:
+            return largest, "not limiting"
+        for _ in range(iterations):
+            mid = math.sqrt(lo * hi)
+            lo, hi = (mid, hi) if ok(mid) else (lo, mid)
+        return lo, "limit"
+    lo, hi = 0.0, 1.0
+    for _ in range(iterations):
+        mid = 0.5 * (lo + hi) if lo == 0.0 and hi > 0.125 else math.sqrt(max(lo, 1e-6) * hi)
+        lo, hi = (mid, hi) if ok(mid) else (lo, mid)
+    return lo, "limit"
+
+
+def input_limits(design, inputs) -> pd.DataFrame:
+    """Largest tolerance of each input alone that meets every requirement.
+
+    Returns
+    -------
+    DataFrame
+        Index ``input``: ``largest_scale`` (times the written tolerance),
+        ``status`` (``limit``; ``not limiting`` up to the study's
+        ``design.largest_scale``; ``others break it`` when the other inputs
+        alone already break a requirement), ``U_k2_written`` and ``U_k2_allowed``
+        [SI unit of the input], ``unit``.
+    """
+    largest = design.study.design.largest_scale
+    rows = []
+    for j, inp in enumerate(inputs):
+        def ok(s, j=j):
+            scale = design.ones()
+            scale[j] = s
+            return design.figures(scale, margin=True).met()
+        s, status = _largest_scale(ok, largest)
+        rows.append({"input": inp.name, "perturbs": ", ".join(inp.targets),
+                     "largest_scale": s, "status": status,
+                     "U_k2_written": 2.0 * inp.standard_uncertainty,
+                     "U_k2_allowed": 2.0 * inp.standard_uncertainty * s,
+                     "unit": input_unit(inp)})
+    return pd.DataFrame(rows).set_index("input") if rows else pd.DataFrame()
+
+
+def input_unit(inp) -> str:
+    return DIMENSIONS[TARGETS[inp.target].dimension][1] or "1"
+
+
+# ---------------------------------------------------------------------------
+# (b) allocation
+# ---------------------------------------------------------------------------
+@dataclass
+class Surrogate:
+    """Gaussian model of the requirement outputs against the tolerance scales."""
+
+    design: object
+    sens: dict          # output -> c (d,)
+    cov: np.ndarray     # input covariance V (d, d)
+    ratio: dict = field(default_factory=dict)    # output -> sigma_MC / sigma_lin
+    kappa: dict = field(default_factory=dict)    # output -> U_p / sigma_MC
+    bias: dict = field(default_factory=dict)     # output -> mean - centre
+    joint: dict = field(default_factory=dict)    # requirement key -> P_MC / prod P_gauss
+
+    def sigma(self, output: str, scales: np.ndarray) -> np.ndarray:
+        """sigma_lin(y) for each row of ``scales`` (m, d)."""
+        cs = scales * self.sens[output]
+        return np.sqrt(np.maximum(np.einsum("mi,ij,mj->m", cs, self.cov, cs), 0.0))
+
+    def calibrate(self, scale: np.ndarray) -> None:
+        fig = self.design.figures(scale)
+        st, sp = self.design.study, self.design.setpoint
+        for k in self.sens:
+            lin = float(self.sigma(k, scale[None, :])[0])
+            u = fig.standard_uncertainty[k]
+            self.ratio[k] = u / lin if lin > 0 and np.isfinite(u) else 1.0
+            self.kappa[k] = fig.half_length[k] / u if u > 0 else 1.96
+            self.bias[k] = fig.mean[k] - centre_of(k, st, sp) if np.isfinite(fig.mean[k]) else 0.0
+        self.joint = {}
+        for r, c in zip(st.requirements, fig.requirements):
+            if r.kind == "conformity":
+                pred = float(self._conformity(r, scale[None, :], raw=True)[0])
+                self.joint[r.key] = c.value / pred if pred > 0 and np.isfinite(c.value) else 1.0
+
+    def _p_within(self, output, w, scales):
+        s = np.maximum(self.ratio[output] * self.sigma(output, scales), 1e-300)
+        mu = self.bias[output]
+        return special.ndtr((w - mu) / s) - special.ndtr((-w - mu) / s)
+
+    def _conformity(self, r, scales, raw=False):
+        st = self.design.study
+        p = np.ones(len(scales))
+        for g in r.groups:
+            band = st.band(g)
+            p = p * self._p_within(band.output, band.tolerance, scales)
+        return p if raw else np.minimum(p * self.joint.get(r.key, 1.0), 1.0)
+
+    def margins(self, scales: np.ndarray) -> np.ndarray:
+        """Constraint values (>= 0 when met, with the design margins), shape (m, n_req)."""
+        st, sp, n = self.design.study, self.design.setpoint, self.design.trials
+        cols = []
+        for r in st.requirements:
+            if r.kind == "expanded_uncertainty":
+                lim = _limit(r, st, sp) * (1.0 - margins(n, st.design.verify_trials))
+                U = self.kappa[r.output] * self.ratio[r.output] * self.sigma(r.output, scales)
+                cols.append(1.0 - U / lim)
+            else:
+                need = r.probability + margins(n, st.design.verify_trials, r.probability)
+                if r.kind == "within":
+                    p = self._p_within(r.output, _limit(r, st, sp), scales)
+                else:
+                    p = self._conformity(r, scales)
+                cols.append((p - need) / (1.0 - r.probability))
+        return np.column_stack(cols) if cols else np.zeros((len(scales), 0))
+
+
+@dataclass
+class Allocation:
+    """Chosen tolerances, their cost, and the figures of the fresh verification run."""
+
+    kind: str                       # "power" or "grades"
+    scale: np.ndarray               # per input (1 for inputs left as written)
+    cost: float
+    cost_written: float | None      # cost of the tolerances as written (power costs)
+    grades: dict                    # input -> chosen grade name (grades)
+    table: pd.DataFrame             # instrument requirements
+    design_checks: list             # on the design sample
+    verification: list              # fresh run at the allocation
+    loosened: list                  # fresh run, every tolerance x LOOSEN
+    verify_trials: int
+    verify_seed: int
+    rounds: int
+    message: str = ""
+
+    @property
+    def verified(self) -> bool:
+        return bool(self.verification) and all(c.met for c in self.verification)
+
+    @property
+    def fails_loosened(self) -> bool:
+        return bool(self.loosened) and not all(c.met for c in self.loosened)
+
+
+def _costed(inputs) -> list[int]:
+    return [j for j, i in enumerate(inputs) if i.spec.cost is not None]
+
+
+def _power_cost(inputs, idx, s) -> float:
+    return float(sum(inputs[j].spec.cost.at_written * s[k] ** (-inputs[j].spec.cost.exponent)
+                     for k, j in enumerate(idx)))
+
+
+def grade_scale(inp, grade, setpoint) -> float:
+    """Tolerance scale of a grade: U_grade / (2 u_written)."""
+    _, size, _, _ = grade
+    value = size.value
+    reading_key = TARGETS[inp.target].reading
+    if size.relative and reading_key is not None:
+        value *= abs(float(setpoint.outputs[reading_key]))
+    return value / (2.0 * inp.standard_uncertainty)
+
+
+def _scale_to_fit(design, base: np.ndarray, idx: list[int], largest: float) -> float:
+    """Common factor lambda on ``base[idx]`` such that the design sample just meets the requirements."""
+    def ok(lam):
+        s = base.copy()
+        s[idx] = base[idx] * lam
+        return design.figures(s, margin=True).met()
+    lam, _ = _largest_scale(ok, largest / max(float(np.max(base[idx])), 1e-12), iterations=14)
+    return lam
+
+
+def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray,
+             verify_design_factory) -> Allocation | None:
+    """Cheapest tolerances meeting every requirement (see the module docstring).
+
+    Parameters
+    ----------
+    design : simunc.tolerances.Design
+    inputs : list of UncertainInput
+    sensitivities : DataFrame
+        GUM sensitivity coefficients c (index output, columns inputs) at the set point.
+    covariance : ndarray
+        Input covariance V_ij = r_ij u_i u_j.
+    verify_design_factory : callable
+        ``() -> Design`` of the fresh verification run.
+
+    Returns None when no input has a cost model.
+    """
+    st = design.study
+    idx = _costed(inputs)
+    if not idx or not st.requirements:
+        return None
+    outs = list(dict.fromkeys([r.output for r in st.requirements if r.output] +
+                              [st.band(g).output for r in st.requirements for g in r.groups]))
+    sur = Surrogate(design, {k: sensitivities.loc[k].to_numpy(dtype=float) for k in outs},
+                    np.asarray(covariance, dtype=float))
+    largest = st.design.largest_scale
+    kind = inputs[idx[0]].spec.cost.kind
+    base = design.ones()
+    rounds, message, grades = 0, "", {}
+    if kind == "power":
+        sur.calibrate(base)
+        best = None
+        z0 = np.zeros(len(idx))
+        for rounds in range(1, 4):
+            def full(z):
+                s = base.copy()
+                s[idx] = np.exp(z)
+                return s
+
+            res = optimize.minimize(
+                lambda z: _power_cost(inputs, idx, np.exp(z)), z0, method="SLSQP",
+                bounds=[(math.log(1e-3), math.log(largest))] * len(idx),
+                constraints=[{"type": "ineq", "fun": lambda z: sur.margins(full(z)[None, :])[0]}],
+                options={"maxiter": 200, "ftol": 1e-10})
+            s = full(res.x)
+            lam = _scale_to_fit(design, s, idx, largest)
+            s[idx] *= lam
+            if lam > 0 and (best is None or _power_cost(inputs, idx, s[idx]) <
+                            _power_cost(inputs, idx, best[idx])):
+                best = s.copy()
+            if lam <= 0:
+                message = "the inputs left as written break a requirement on their own"
+                break
+            if abs(math.log(lam)) < 0.005:
+                break
+            sur.calibrate(s)
+            z0 = np.log(s[idx])
+        scale = best if best is not None else base * np.nan
+        cost = _power_cost(inputs, idx, scale[idx]) if best is not None else math.nan
+        cost_written = _power_cost(inputs, idx, np.ones(len(idx)))
+    else:
+        options = [[(g, grade_scale(inputs[j], g, design.setpoint)) for g in inputs[j].spec.cost.grades]
+                   for j in idx]
+        n_comb = math.prod(len(o) for o in options)
+        if n_comb > MAX_COMBINATIONS:
+            raise ValueError(f"{n_comb} grade combinations (at most {MAX_COMBINATIONS})")
+        combos = np.array(list(product(*[range(len(o)) for o in options])), dtype=int)
+        prices = np.array([sum(options[k][c][0][2] for k, c in enumerate(row)) for row in combos])
+        scales = np.tile(base, (len(combos), 1))
+        for k, j in enumerate(idx):
+            scales[:, j] = np.array([o[1] for o in options[k]])[combos[:, k]]
+        sur.calibrate(base)
+        pred = np.all(sur.margins(scales) >= -0.05, axis=1) if st.requirements else \
+            np.ones(len(combos), bool)
+        order = np.lexsort((~pred, prices))
+        scale, cost, checked = None, math.nan, 0
+        for m in order:
+            if not pred[m] and checked >= MAX_CHECKS // 2:
+                continue
+            checked += 1
+            if design.figures(scales[m], margin=True).met():
+                scale, cost = scales[m].copy(), float(prices[m])
+                grades = {inputs[j].name: options[k][combos[m, k]][0][0] for k, j in enumerate(idx)}
+                break
+            if checked >= MAX_CHECKS:
+                break
+        if scale is None:
+            message = "no combination of the grades meets every requirement"
+            scale = base * np.nan
+        cost_written, rounds = None, checked
+    ok = bool(np.all(np.isfinite(scale)))
+    design_checks = design.figures(scale, margin=False).requirements if ok else []
+    verification = loosened = []
+    vd = None
+    if ok:
+        vd = verify_design_factory()
+        verification = vd.figures(scale).requirements
+        loosened = vd.figures(scale * LOOSEN).requirements
+    table = instrument_table(inputs, scale if ok else base, idx, grades, design.setpoint)
+    return Allocation(kind, scale, cost, cost_written, grades, table, design_checks, verification,
+                      loosened, vd.trials if vd else 0, vd.seed if vd else 0, rounds, message)
+
+
+def instrument_table(inputs, scale, allocated, grades, setpoint) -> pd.DataFrame:
+    """Instrument requirements: quantity, allowed U (k = 2), distribution assumed."""
+    rows = []
+    for j, inp in enumerate(inputs):
+        u = inp.standard_uncertainty * float(scale[j])
+        reading_key = TARGETS[inp.target].reading
+        value = setpoint.outputs.get(reading_key) if reading_key else None
+        reading = abs(float(value)) if value is not None else None
+        rows.append({
+            "input": inp.name, "quantity": inp.target.replace("_", " "),
+            "allowed U (k = 2)": 2.0 * u, "unit": input_unit(inp),
+            "% of reading": 100.0 * 2.0 * u / reading if reading else np.nan,
+            "distribution": inp.kind, "as written U (k = 2)": 2.0 * inp.standard_uncertainty,
+            "scale": float(scale[j]),
+            "source": (f"grade '{grades[inp.name]}'") if inp.name in grades else
+            ("allocated" if j in allocated else "as written"),
+        })
+    return pd.DataFrame(rows)

@@ -1,0 +1,308 @@
+"""Requirement solver, allocation, tolerance sweeps and tightening (simunc.requirements, .tolerances).
+
+Reference results used here, all closed forms outside simunc:
+
+* Linear model y = sum c_i x_i with independent normal x_i ~ N(0, u_i^2): y is normal with
+  sigma^2 = sum c_i^2 u_i^2 (JCGM 100:2008, eq. (10), exact for a linear model), so the
+  half-length of its probabilistically symmetric 95 % interval is z sigma with
+  z = Phi^-1(0.975) (scipy.stats.norm.ppf; 1.96 in JCGM 100:2008, G.1.3), and
+  P(|y| <= w) = 2 Phi(w / sigma) - 1.
+* Scaling input j's tolerance by s gives sigma(s)^2 = sum_{i != j} v_i + s^2 v_j, v_i = c_i^2 u_i^2.
+* Least cost of sum a_i / s_i subject to sum v_i s_i^2 = sigma*^2 (a Lagrange-multiplier
+  problem: d/ds_i [a_i / s_i + lambda v_i s_i^2] = 0) gives s_i proportional to
+  (a_i / v_i)^(1/3) (derived here).
+* Variance removed if x_j were known exactly: Var(E[y | x_j]) = v_j (first-order Sobol index
+  times Var y, Saltelli et al., *Global Sensitivity Analysis: The Primer*, Wiley, 2008, 1.2.15).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from types import SimpleNamespace
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import stats
+
+import simunc
+from simunc.cli import main
+from simunc.errors import StudyError
+from simunc.planning_spec import CostModel, DesignSettings, Requirement
+from simunc.propagate import Problem
+from simunc.requirements import allocate, input_limits, margins
+from simunc.study import Band, RunSettings, parse_study
+from simunc.tolerances import Design, sweep, tightening
+from simunc.units import Parsed
+
+Z95 = stats.norm.ppf(0.975)
+C = np.array([2.0, -1.0, 0.5])
+U = np.array([0.01, 0.03, 0.03])
+V = (C * U) ** 2
+SIGMA = math.sqrt(V.sum())
+
+
+@dataclass
+class FakeStudy:
+    """The attributes of simunc.study.Study that the decision engines read."""
+
+    bands: tuple
+    requirements: tuple
+    design: DesignSettings = field(default_factory=lambda: DesignSettings(60_000, 240_000, 100.0))
+    run: RunSettings = field(default_factory=RunSettings)
+
+    def band(self, group):
+        return next((b for b in self.bands if b.group == group), None)
+
+
+def _problem():
+    names = ["a", "b", "c"]
+    return Problem(names, [stats.norm(0.0, u) for u in U],
+                   lambda x: {"reynolds_ratio": 1.0 + sum(c * x[n] for c, n in zip(C, names))})
+
+
+def _inputs(costs=(None, None, None)):
+    return [SimpleNamespace(name=n, target="model_reference_length", targets=(n,),
+                            standard_uncertainty=float(u), kind="normal",
+                            spec=SimpleNamespace(controllable=True, cost=cost))
+            for n, u, cost in zip("abc", U, costs)]
+
+
+SETPOINT = SimpleNamespace(outputs={"reynolds_ratio": 1.0})
+BAND = Band("reynolds", 0.1, "10 %")
+
+
+def _design(reqs, trials=60_000, seed=3, verify=240_000):
+    study = FakeStudy((BAND,), tuple(reqs), DesignSettings(trials, verify, 100.0))
+    return Design(_problem(), study, SETPOINT, trials, seed)
+
+
+def _u_requirement(limit):
+    return Requirement("requirement[0]", "expanded_uncertainty", "reynolds_ratio", (), limit,
+                       False, -1.0, f"U <= {limit}")
+
+
+def test_per_input_limit_matches_the_normal_closed_form():
+    limit = 1.2 * Z95 * SIGMA
+    d = _design([_u_requirement(limit)])
+    table = input_limits(d, _inputs())
+    target = (limit * (1.0 - margins(60_000, 240_000)) / Z95) ** 2
+    for j, name in enumerate("abc"):
+        rest = V.sum() - V[j]
+        expected = math.sqrt((target - rest) / V[j])
+        assert table.loc[name, "status"] == "limit"
+        assert table.loc[name, "largest_scale"] == pytest.approx(expected, rel=0.03)
+        assert table.loc[name, "U_k2_allowed"] == pytest.approx(2 * U[j] * expected, rel=0.03)
+
+
+def test_within_requirement_limit_matches_the_normal_closed_form():
+    p, w = 0.95, 1.3 * Z95 * SIGMA
+    req = Requirement("requirement[0]", "within", "reynolds_ratio", (), w, False, p, "within")
+    d = _design([req])
+    table = input_limits(d, _inputs())
+    need = p + margins(60_000, 240_000, p)
+    sigma_max = w / stats.norm.ppf(0.5 * (1.0 + need))
+    j = 2
+    expected = math.sqrt((sigma_max ** 2 - (V.sum() - V[j])) / V[j])
+    assert table.loc["c", "largest_scale"] == pytest.approx(expected, rel=0.04)
+
+
+def test_unreachable_and_not_limiting_status():
+    # Input "a" alone carries sigma_a = 0.02: a limit below z * sqrt(v_b + v_c) cannot be met
+    # by loosening or tightening "a"; a loose limit never binds.
+    tight = Z95 * math.sqrt(V[1] + V[2]) * 0.9
+    assert input_limits(_design([_u_requirement(tight)]), _inputs()).loc["a", "status"] == \
+        "others break it"
+    loose = input_limits(_design([_u_requirement(1e3)]), _inputs())
+    assert set(loose["status"]) == {"not limiting"}
+
+
+def test_power_cost_allocation_matches_the_lagrange_optimum_and_is_tight():
+    limit = 1.1 * Z95 * SIGMA                # as written: 10 % inside the limit
+    a = np.array([100.0, 400.0, 50.0])
+    costs = [CostModel("power", float(x), 1.0) for x in a]
+    d = _design([_u_requirement(limit)])
+    sens = pd.DataFrame([C], index=["reynolds_ratio"], columns=list("abc"))
+    alloc = allocate(d, _inputs(costs), sens, np.diag(U ** 2),
+                     lambda: Design(_problem(), d.study, SETPOINT, 240_000, 99))
+    shape = np.cbrt(a / V)
+    sigma_star = limit * (1.0 - margins(60_000, 240_000)) / Z95
+    expected = shape * sigma_star / math.sqrt(np.sum(V * shape ** 2))
+    np.testing.assert_allclose(alloc.scale, expected, rtol=0.03)
+    assert alloc.cost == pytest.approx(np.sum(a / alloc.scale), rel=1e-9)
+    assert alloc.cost < alloc.cost_written
+    assert alloc.verified                       # fresh Monte Carlo run meets it
+    assert alloc.fails_loosened                 # and every tolerance x 1.1 breaks it
+    achieved = alloc.verification[0].value
+    assert achieved == pytest.approx(Z95 * math.sqrt(np.sum(V * alloc.scale ** 2)), rel=0.01)
+
+
+def test_grade_allocation_is_the_cheapest_passing_combination():
+    limit = Z95 * SIGMA * 0.8
+    costs = []
+    for u in U:
+        costs.append(CostModel("grades", grades=tuple(
+            (f"x{s:g}", Parsed(2 * u * s, False), price, "") for s, price in
+            [(0.5, 900.0), (1.0, 300.0), (2.0, 100.0)])))
+    d = _design([_u_requirement(limit)])
+    sens = pd.DataFrame([C], index=["reynolds_ratio"], columns=list("abc"))
+    alloc = allocate(d, _inputs(costs), sens, np.diag(U ** 2),
+                     lambda: Design(_problem(), d.study, SETPOINT, 240_000, 99))
+    # brute force over the 27 combinations with the closed form and the same margin
+    best = None
+    sig_max = limit * (1.0 - margins(60_000, 240_000)) / Z95
+    for sa in (0.5, 1.0, 2.0):
+        for sb in (0.5, 1.0, 2.0):
+            for sc in (0.5, 1.0, 2.0):
+                s = np.array([sa, sb, sc])
+                price = sum({0.5: 900.0, 1.0: 300.0, 2.0: 100.0}[v] for v in s)
+                if math.sqrt(np.sum(V * s ** 2)) <= sig_max * 0.995 and (best is None or
+                                                                          price < best[0]):
+                    best = (price, s)
+    assert alloc.cost == best[0]
+    np.testing.assert_allclose(alloc.scale, best[1])
+    assert alloc.verified
+
+
+def test_sweep_follows_the_closed_form_with_common_random_numbers():
+    d = _design([])
+    res = sweep(d, "s", ["b"], 0.1, 3.0, 8)
+    s = res.table["scale: b"].to_numpy()
+    expected = 2.0 * np.sqrt(V.sum() - V[1] + s ** 2 * V[1])
+    np.testing.assert_allclose(res.table["U_k2_reynolds_ratio"], expected, rtol=0.01)
+    assert np.all(np.diff(res.table["U_k2_reynolds_ratio"]) > 0)   # smooth: CRN, no noise flips
+    grid = sweep(d, "s2", ["a", "c"], 0.5, 2.0, 4)
+    assert len(grid.table) == 16        # 4 x 4 grid (the scale 1 is one of the points)
+    pr = 2 * stats.norm.cdf(0.1 / np.sqrt(V.sum() - V[0] - V[2] + grid.table["scale: a"] ** 2
+                                          * V[0] + grid.table["scale: c"] ** 2 * V[2])) - 1
+    np.testing.assert_allclose(grid.table["conformity_all"], pr, atol=0.004)
+
+
+def test_tightening_reports_variance_removed_and_halved_tolerance():
+    d = _design([])
+    s1 = pd.Series(V / V.sum(), index=list("abc"))
+    t = tightening(d, {"reynolds_ratio": s1}, _inputs())
+    var = d.figures(d.ones()).standard_uncertainty["reynolds_ratio"] ** 2
+    for j, n in enumerate("abc"):
+        assert t.loc[n, "variance_removed_reynolds_ratio"] == pytest.approx(var * V[j] / V.sum())
+        halved = 2 * math.sqrt(V.sum() - 0.75 * V[j])
+        assert t.loc[n, "U_k2_halved_reynolds_ratio"] == pytest.approx(halved, rel=0.01)
+    order = sorted("abc", key=lambda n: -V["abc".index(n)])
+    assert list(t.index) == order           # largest v_i gains most from halving
+
+
+# --------------------------------------------------------------------------- on the demo study
+@pytest.fixture(scope="module")
+def demo_result():
+    study = simunc.load_study("studies/arven_cruise.toml")
+    from dataclasses import replace
+    study = replace(study, design=DesignSettings(30_000, 120_000, 100.0), sweeps=study.sweeps[:1])
+    return simunc.run(study, trials=20_000, seed=5)
+
+
+def test_demo_allocation_is_confirmed_and_fails_when_loosened(demo_result):
+    a = demo_result.allocation
+    assert a is not None and not a.message
+    assert a.verified and all(c.met for c in a.verification)
+    assert a.fails_loosened
+    assert a.cost < a.cost_written
+    # the instrument table gives U (k = 2) = 2 u scale for every input
+    for _, row in a.table.iterrows():
+        inp = next(i for i in demo_result.inputs if i.name == row["input"])
+        assert row["allowed U (k = 2)"] == pytest.approx(2 * inp.standard_uncertainty * row["scale"])
+    assert set(a.table.loc[a.table["source"] == "as written", "input"]) >= {
+        "Sutherland viscosity model", "full-scale day temperature"}
+
+
+def test_demo_tightening_puts_conditions_last(demo_result):
+    t = demo_result.tightening
+    flags = list(t["controllable"])
+    assert flags == sorted(flags, reverse=True)
+    assert not t.loc["full-scale day temperature", "controllable"]
+    assert demo_result.shapley is not None  # the demo correlates two transducers
+
+
+def test_results_json_has_the_decision_sections(demo_result, tmp_path):
+    import json
+    simunc.write_report(demo_result, tmp_path)
+    doc = json.loads((tmp_path / "results.json").read_text())
+    req = doc["requirements"]
+    assert req["allocation"]["verified"] is True
+    assert len(req["allocation"]["instrument_requirements"]) == len(demo_result.inputs)
+    assert doc["tightening"][0]["rank"] == 1
+    assert doc["sensitivity"]["shapley"] and doc["sensitivity"]["groups"]["members"]
+    assert doc["sensitivity"]["second_order"]
+    assert doc["sweeps"] and doc["sweeps"][0]["points"]
+    assert (tmp_path / "sweep_1.png").is_file() and (tmp_path / "tightening.png").is_file()
+
+
+# --------------------------------------------------------------------------- bad input
+BAD = [
+    ({"requirement": [{"group": "froude", "expanded_uncertainty": "1 %"}]}, "requirement[0].group"),
+    ({"requirement": [{"group": "reynolds", "output": "reynolds_ratio",
+                       "expanded_uncertainty": "1 %"}]}, "requirement[0].group"),
+    ({"requirement": [{"output": "mach_difference", "within": "1 %", "probability": 0.95}]},
+     "requirement[0].within"),
+    ({"requirement": [{"output": "mach_difference", "within": 0.001}]},
+     "requirement[0].probability"),
+    ({"requirement": [{"group": "mach", "within": 0.001, "conformity": 0.9}]},
+     "requirement[0].conformity"),
+    ({"requirement": [{"conformity": 1.5}]}, "requirement[0].conformity"),
+    ({"requirement": [{"output": "reynolds_ratio"}]}, "requirement[0].expanded_uncertainty"),
+    ({"sweep": [{"inputs": ["no such input"]}]}, "sweep[0].inputs[0]"),
+    ({"sweep": [{"inputs": ["T0 thermometer"], "scale": [2, 1]}]}, "sweep[0].scale"),
+    ({"sweep": [{"inputs": ["a", "b", "c"]}]}, "sweep[0].inputs"),
+    ({"sensitivity": {"groups": {"g": ["T0 thermometer", "nobody"]}}}, "sensitivity.groups.g[1]"),
+    ({"sensitivity": {"shapley": "sometimes"}}, "sensitivity.shapley"),
+    ({"design": {"trials": 10}}, "design.trials"),
+]
+
+
+@pytest.mark.parametrize("extra, key", BAD)
+def test_bad_decision_keys_name_the_key(demo_dict, extra, key):
+    data = {k: v for k, v in demo_dict.items() if k not in ("requirement", "sweep", "sensitivity")}
+    data.update(extra)
+    with pytest.raises(StudyError) as exc:
+        parse_study(data)
+    assert exc.value.key == key
+
+
+def test_bad_cost_models_name_the_key(demo_dict):
+    data = dict(demo_dict)
+    data["uncertain"] = [dict(u) for u in demo_dict["uncertain"]]
+    data["uncertain"][1].pop("cost", None)
+    data["uncertain"][1]["grades"] = [{"expanded_uncertainty": "0.1 %", "price": 10}]
+    with pytest.raises(StudyError) as exc:
+        parse_study(data)
+    assert exc.value.key.startswith("uncertain[") and "cost" in exc.value.expected
+    data["uncertain"][1]["grades"] = [{"expanded_uncertainty": "0 %", "price": 10}]
+    with pytest.raises(StudyError) as exc:
+        parse_study(data)
+    assert exc.value.key == "uncertain[1].grades[0].expanded_uncertainty"
+    data["uncertain"][1].pop("grades")
+    data["uncertain"][8]["cost"] = {"at_written": 5}
+    with pytest.raises(StudyError) as exc:   # a condition is not controllable by default
+        parse_study(data)
+    assert exc.value.key == "uncertain[8].controllable"
+
+
+def test_cli_commands(tmp_path, capsys, demo_text, write_study):
+    path = write_study(demo_text)
+    assert main(["allocate", str(path), "--out", str(tmp_path / "a"), "--trials", "2000"]) == 0
+    assert "allocation: cost" in capsys.readouterr().out
+    code = main(["sweep", str(path), "--out", str(tmp_path / "s"), "--trials", "2000",
+                 "--input", "nobody"])
+    err = capsys.readouterr().err
+    assert code == 2 and "--input" in err and "simunc: error:" in err
+    assert not (tmp_path / "s").exists()
+    assert main(["sweep", str(path), "--out", str(tmp_path / "s"), "--trials", "2000",
+                 "--input", "T0 thermometer", "--scale", "0.5", "2", "--points", "4"]) == 0
+    names = {p.name for p in (tmp_path / "s").iterdir()}
+    assert "sweep_1.png" in names and "sweep_3.png" in names  # the study's two and this one
+    assert main(["rank", str(path), "--out", str(tmp_path / "r"), "--trials", "2000"]) == 0
+    names = {p.name for p in (tmp_path / "r").iterdir()}
+    assert "tightening.png" in names and "sweep_1.png" not in names
+    no_req = demo_text.split("# ---- What the test plan demands")[0]
+    assert main(["allocate", str(write_study(no_req)), "--out", str(tmp_path / "n")]) == 2
+    assert "requirement" in capsys.readouterr().err

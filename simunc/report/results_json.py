@@ -133,7 +133,8 @@ def results_dict(result) -> dict:
                                 "written": b.text} for b in st.bands},
         },
         "sensitivity": {
-            "method": "Sobol first-order (S1) and total (ST) indices, SALib, bootstrap 95 % "
+            "method": "Sobol first-order (S1) and total (ST) indices: Saltelli design on a "
+                      "scrambled Sobol sequence, the estimators SALib uses, bootstrap 95 % "
                       "confidence half-widths (*_conf)",
             "indices": {out: {name: dict(row) for name, row in table.iterrows()}
                         for out, table in result.sobol.items()},

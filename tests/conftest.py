@@ -16,8 +16,21 @@ def demo_text() -> str:
     return DEMO.read_text()
 
 
+#: Demo tables that name inputs or groups; tests that rewrite the inputs or bands start without them.
+DECISION_TABLES = ("requirement", "sweep", "sensitivity")
+
+
 @pytest.fixture
 def demo_dict() -> dict:
+    """The demo study as a dict, without the decision tables (see ``demo_full_dict``)."""
+    data = tomllib.loads(DEMO.read_text())
+    for key in DECISION_TABLES:
+        data.pop(key, None)
+    return data
+
+
+@pytest.fixture
+def demo_full_dict() -> dict:
     return tomllib.loads(DEMO.read_text())
 
 

@@ -261,7 +261,7 @@ BAD = [
 
 @pytest.mark.parametrize("extra, key", BAD)
 def test_bad_decision_keys_name_the_key(demo_dict, extra, key):
-    data = {k: v for k, v in demo_dict.items() if k not in ("requirement", "sweep", "sensitivity")}
+    data = dict(demo_dict)
     data.update(extra)
     with pytest.raises(StudyError) as exc:
         parse_study(data)

@@ -49,7 +49,8 @@ def setpoint(base):
 def study_with(base, inputs, correlations=None):
     data = copy.deepcopy(base)
     data["uncertain"] = [dict({"name": f"in{i}"}, **d) for i, d in enumerate(inputs)]
-    data.pop("correlations", None)  # the demo's own pairs name its own inputs
+    for key in ("correlations", "requirement", "sweep", "sensitivity"):
+        data.pop(key, None)  # the demo's own tables name its own inputs
     if correlations is not None:
         data["correlations"] = correlations
     return parse_study(data)

@@ -84,6 +84,14 @@ def tightening_blocks(result) -> list[Block]:
             cols += [f"variance_removed_percent_{band.output}", f"delta_U_k2_{band.output}"]
         cols += ["delta_conformity", "gain_bands"]
         b.append(Block("table", table(t[cols].reset_index())))
+        worse = [n for n in t.index if any(t.loc[n, f"delta_U_k2_{band.output}"] > 0
+                                          for band in st.bands)]
+        if worse and st.correlation is not None:
+            b.append(Block("paragraph", "Halving the tolerance of " + ", ".join(worse) + " alone "
+                           "raises U of some group: correlated errors partly cancel (for instance "
+                           "two transducers sharing a calibration standard, whose errors cancel in "
+                           "a pressure ratio), and tightening one of them alone breaks that "
+                           "cancellation. Tighten such inputs together."))
         top = t[t["controllable"]]
         if len(top):
             b.append(Block("paragraph", f"Control more tightly first: **{top.index[0]}** "

@@ -418,6 +418,40 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
                       loosened, vd.trials if vd else 0, vd.seed if vd else 0, rounds, message)
 
 
+#: Control deviations and the facility limit each one moves.
+CONTROL_LIMITS = {"stagnation_pressure_control": "stagnation_pressure",
+                  "stagnation_temperature_control": "stagnation_temperature",
+                  "mach_control": "mach", "speed_control": "speed",
+                  "static_pressure_control": "static_pressure",
+                  "temperature_control": "temperature"}
+
+
+def control_excursions(inputs, scale, setpoint) -> list[str]:
+    """Facility limits that an allowed control deviation could cross.
+
+    The excursion is the half-width of a bounded distribution, else 3 u (common practice, no
+    source), at the allowed tolerance.
+    """
+    out = []
+    for j, inp in enumerate(inputs):
+        for target, factor in inp.effects:
+            quantity = CONTROL_LIMITS.get(target)
+            if quantity is None:
+                continue
+            half = inp.half_width
+            reach = abs(factor) * float(scale[j]) * (half if half is not None
+                                                     else 3.0 * inp.standard_uncertainty)
+            for lim in setpoint.limits:
+                if lim.quantity != quantity:
+                    continue
+                edge = lim.value + reach if lim.side == "max" else lim.value - reach
+                if (lim.side == "max" and edge > lim.bound) or (lim.side == "min" and edge < lim.bound):
+                    out.append(f"{inp.name}: a deviation of {reach:.4g} {lim.unit} about the set "
+                               f"point {lim.value:.6g} {lim.unit} reaches past the facility "
+                               f"{lim.side}imum {lim.bound:.6g} {lim.unit}")
+    return out
+
+
 def instrument_table(inputs, scale, allocated, grades, setpoint) -> pd.DataFrame:
     """Instrument requirements: quantity, allowed U (k = 2), distribution assumed."""
     rows = []

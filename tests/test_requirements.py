@@ -306,3 +306,20 @@ def test_cli_commands(tmp_path, capsys, demo_text, write_study):
     no_req = demo_text.split("# ---- What the test plan demands")[0]
     assert main(["allocate", str(write_study(no_req)), "--out", str(tmp_path / "n")]) == 2
     assert "requirement" in capsys.readouterr().err
+
+
+def test_control_excursion_past_a_facility_limit_is_flagged(demo_result):
+    from simunc.requirements import control_excursions
+    inputs, sp = demo_result.inputs, demo_result.setpoint
+    j = [i.name for i in inputs].index("p0 control stability")
+    scale = np.ones(len(inputs))
+    assert control_excursions(inputs, scale, sp) == []
+    # rectangular +-0.15 % of p0 = 7.4642 bar, 20 times wider: 7.4642 (1 + 0.03) > 9 bar? no;
+    # 80 times: 7.4642 x 1.12 = 8.36 bar < 9; 200 times: 7.4642 x 1.3 = 9.70 bar > 9 bar (hand
+    # calculation from the written half-width and the facility maximum of the demo study)
+    scale[j] = 200.0
+    (msg,) = control_excursions(inputs, scale, sp)
+    reach = 0.0015 * sp.outputs["stagnation_pressure"] * 200.0
+    assert "p0 control stability" in msg and f"{reach:.4g}" in msg and "maximum" in msg
+    scale[j] = 80.0
+    assert control_excursions(inputs, scale, sp) == []

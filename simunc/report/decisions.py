@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pandas as pd
 
-from ..requirements import LOOSEN
+from ..requirements import LOOSEN, control_excursions
 from .blocks import Block, fmt, table
 
 
@@ -159,6 +159,15 @@ def requirement_blocks(result) -> list[Block]:
                    "expanded uncertainty at k = 2, i.e. twice the standard uncertainty, with the "
                    "distribution assumed):"))
     b.append(Block("table", table(a.table)))
+    if not a.message:
+        over = control_excursions(result.inputs, a.scale, result.setpoint)
+        b.append(Block("bullets", [
+            "The allowed tolerances are accuracy requirements. A looser control tolerance also "
+            "widens the excursions of the facility about its set point: they must stay inside "
+            "the facility's rated envelope and the model's load rating, under the facility's "
+            "safety rules and licensed engineering practice, whatever this allocation allows."]
+            + [f"Caution: {m}. Keep that control tighter than allocated, or move the set "
+               "point." for m in over]))
     return b
 
 

@@ -21,10 +21,12 @@ from .inputs import UncertainInput, build_inputs
 from .lpu import lpu, validate
 from .model import SimilitudeModel, describe_output
 from .propagate import Problem, adaptive, propagate
+from .planning_spec import check_outputs
 from .requirements import allocate, input_limits
 from .sensitivity import SobolResult, sobol_analysis
 from .shapley import shapley_effects
-from .tolerances import DESIGN_STREAM, VERIFY_STREAM, Design, stream_seed, sweep, tightening
+from .tolerances import (DESIGN_STREAM, VERIFY_STREAM, Design, stream_seed, sweep, tightening,
+                         trial_problems)
 from .setpoint import SetPoint, build_model, solve
 from .envelope import Envelope, envelope
 from .errors import StudyError
@@ -184,20 +186,7 @@ class TrialMonitor:
 
     def __call__(self, x: np.ndarray, y: dict[str, np.ndarray]) -> None:
         n = len(next(iter(y.values())))
-        bad = np.zeros(n, dtype=bool)
-        for v in y.values():
-            bad |= ~np.isfinite(v)
-        reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above "
-                   "the stagnation pressure)"] if bad.any() else []
-        for key in ("model_length", "static_pressure", "static_temperature", "density",
-                    "viscosity", "speed"):
-            neg = np.asarray(y[key]) <= 0.0
-            if neg.any():
-                reasons.append(f"{np.count_nonzero(neg)} with {key.replace('_', ' ')} <= 0")
-        if not reasons:
-            why = self.model.fluid.check_state(y["static_pressure"], y["static_temperature"])
-            if why:
-                reasons.append(f"some outside the {self.model.fluid.name} model ({why})")
+        reasons = trial_problems(y, self.model)
         if reasons:
             raise StudyError("uncertain", f"sizes that make trials non-physical ({'; '.join(reasons)}"
                              f" of a chunk of {n})", "input sizes small enough that every trial is "
@@ -287,6 +276,7 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
                                      if v is not None})
     study = replace(study, run=settings)
     setpoint = solve(study)
+    check_outputs(study, setpoint.outputs)
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
     inputs = build_inputs(study.inputs, setpoint)
     problem = similitude_problem(model, setpoint, inputs)
@@ -356,20 +346,23 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
                     envelope(study, model, setpoint), plan(study, model, setpoint),
                     pis, guf, validation, components, sobol_result, shapley)
     if inputs:
-        _decisions(result, problem, correlation, parts, extra_sweeps)
+        _decisions(result, problem, model, correlation, parts, extra_sweeps)
     return result
 
 
-def _decisions(result: Result, problem: Problem, correlation, parts, extra_sweeps) -> None:
+def _decisions(result: Result, problem: Problem, model: SimilitudeModel, correlation, parts,
+               extra_sweeps) -> None:
     """Tightening ranking, requirements (limits, allocation, verification) and sweeps."""
     study, setpoint, inputs = result.study, result.setpoint, result.inputs
     settings, ds = study.run, study.design
     design = Design(problem, study, setpoint, ds.trials, stream_seed(settings.seed, DESIGN_STREAM),
-                    settings.sampling, correlation)
+                    settings.sampling, correlation, model)
     result.design_trials = design.trials
-    if not design.figures(design.ones()).finite:
-        raise StudyError("design.trials", f"{ds.trials} trials with non-physical values",
-                         "input sizes small enough that every trial is a physical state")
+    base = design.figures(design.ones())
+    if not base.finite:
+        raise StudyError("uncertain", f"sizes that make design trials non-physical "
+                         f"({'; '.join(base.problems)} of {ds.trials})", "input sizes small "
+                         "enough that every trial is a physical, subsonic state")
     removed = {}
     for out in (b.output for b in study.bands):
         if result.shapley is not None:
@@ -380,7 +373,8 @@ def _decisions(result: Result, problem: Problem, correlation, parts, extra_sweep
 
     def verify_design():
         return Design(problem, study, setpoint, ds.verify_trials,
-                      stream_seed(settings.seed, VERIFY_STREAM), settings.sampling, correlation)
+                      stream_seed(settings.seed, VERIFY_STREAM), settings.sampling, correlation,
+                      model)
 
     if "requirements" in parts and study.requirements:
         fresh = verify_design()

@@ -121,6 +121,13 @@ def requirement(data: Any, index: int, bands, outputs) -> Requirement:
     elif t.has("output"):
         output = t.choice("output", {k: k for k in outputs})
     note = t.text("note", "")
+    req = _requirement(t, kind, groups, output, note)
+    return req if not note else Requirement(req.key, req.kind, req.output, req.groups, req.limit,
+                                            req.relative, req.probability,
+                                            f"{req.text} ({note})", note)
+
+
+def _requirement(t: Table, kind: str, groups: dict, output, note: str) -> Requirement:
     if kind == "conformity":
         if t.has("output"):
             raise StudyError(t.key("output"), t.data["output"], "group (a matched group) or "
@@ -226,6 +233,8 @@ def sweep(data: Any, index: int, names: list[str]) -> Sweep:
     if points > 200:
         raise StudyError(t.key("points"), points, "at most 200 points per input")
     spacing = t.choice("spacing", {"linear": "linear", "log": "log"}, default="linear")
+    if spacing == "log" and lo <= 0.0:
+        raise StudyError(t.key("scale"), [lo, hi], "a low scale above 0 with spacing = 'log'")
     return Sweep(t.prefix, tuple(chosen), (lo, hi), points, spacing)
 
 
@@ -275,3 +284,12 @@ def design(data: Any) -> DesignSettings:
                        what="a tolerance scale above 1 (how far the solver may loosen an input)")
     return DesignSettings(t.integer("trials", 50_000, 1000),
                           t.integer("verify_trials", 200_000, 1000), largest)
+
+
+def check_outputs(study, outputs) -> None:
+    """Refuse a requirement on an output this study's model does not form (at the set point)."""
+    for r in study.requirements:
+        if r.output is not None and r.output not in outputs:
+            key = r.key + (".group" if any(b.output == r.output for b in study.bands) else ".output")
+            raise StudyError(key, repr(r.output), "an output this study's model forms: " +
+                             ", ".join(sorted(k for k in outputs if not k.startswith("_"))))

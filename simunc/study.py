@@ -1063,8 +1063,10 @@ def _array(data: dict, key: str) -> list:
 def _decisions(data: dict, bands, inputs) -> tuple:
     """``[[requirement]]``, ``[[sweep]]``, ``[sensitivity]``, ``[design]`` (planning_spec)."""
     names = [i.name for i in inputs]
-    outputs = [b.output for b in bands] + [f"{b.group}_{s}" for b in bands
-                                           for s in ("model", "full_scale")] + list(OUTPUTS)
+    groups = list(GROUPS) + [b.group for b in bands]
+    outputs = list(dict.fromkeys([b.output for b in bands] + [
+        f"{g}_{s}" for g in groups for s in ("model", "full_scale", "ratio")] + [
+        "mach_difference"] + list(OUTPUTS)))
     reqs = tuple(planning_spec.requirement(d, i, bands, outputs)
                  for i, d in enumerate(_array(data, "requirement")))
     sweeps = tuple(planning_spec.sweep(d, i, names) for i, d in enumerate(_array(data, "sweep")))

@@ -43,6 +43,31 @@ def stream_seed(seed: int, stream: int) -> int:
                >> np.uint64(1))
 
 
+def trial_problems(y, model) -> list[str]:
+    """Why some trials are not physical states (empty when all are).
+
+    Non-finite values, a length, pressure, temperature, density, viscosity or speed at or
+    below zero, and (with ``model``) a state outside its fluid model.
+    """
+    n = len(next(iter(y.values())))
+    bad = np.zeros(n, dtype=bool)
+    for v in y.values():
+        bad |= ~np.isfinite(v)
+    reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above "
+               "the stagnation pressure)"] if bad.any() else []
+    for key in ("model_length", "static_pressure", "static_temperature", "density",
+                "viscosity", "speed"):
+        if key in y:
+            neg = np.asarray(y[key]) <= 0.0
+            if neg.any():
+                reasons.append(f"{np.count_nonzero(neg)} with {key.replace('_', ' ')} <= 0")
+    if not reasons and model is not None:
+        why = model.fluid.check_state(y["static_pressure"], y["static_temperature"])
+        if why:
+            reasons.append(f"some outside the {model.fluid.name} model ({why})")
+    return reasons
+
+
 @dataclass
 class Figures:
     """Uncertainty figures of a design sample at one scale vector."""
@@ -54,7 +79,8 @@ class Figures:
     mean: dict                     # output -> mean
     conformity: dict               # group (and "all") -> probability
     requirements: list             # simunc.requirements.Check
-    finite: bool                   # every trial finite and physical
+    finite: bool                   # every trial a physical, subsonic state
+    problems: tuple = ()           # why not (trial_problems, or trials at Ma >= 1)
 
     def met(self) -> bool:
         return self.finite and all(c.met for c in self.requirements)
@@ -75,11 +101,15 @@ class Design:
         Sampling method of :func:`simunc.sampling.unit_block`.
     correlation : array_like or None
         Correlation matrix of the Gaussian copula.
+    model : SimilitudeModel, optional
+        For the fluid-model and Mach-number checks of :func:`trial_problems`: a scale
+        vector whose trials leave the fluid model or reach Ma >= 1 (where the subsonic
+        set-point relations stop holding) counts as not physical.
     """
 
     def __init__(self, problem: Problem, study, setpoint, trials: int, seed: int,
-                 method: str = "random", correlation=None) -> None:
-        self.problem, self.study, self.setpoint = problem, study, setpoint
+                 method: str = "random", correlation=None, model=None) -> None:
+        self.problem, self.study, self.setpoint, self.model = problem, study, setpoint, model
         d = problem.dimension
         u = unit_block(method, int(trials), d, int(seed), 0)
         if correlation is not None:
@@ -89,6 +119,11 @@ class Design:
         self.p = study.run.coverage_probability
         outs = [b.output for b in study.bands] + [r.output for r in study.requirements if r.output]
         self.outputs = list(dict.fromkeys(outs))
+        # Trials at Ma >= 1 count as not physical only when the written tolerances have none
+        # (otherwise the main run has already warned about them).
+        self._sonic_ok = False
+        if model is not None and model.kind == "gas":
+            self._sonic_ok = bool(np.any(np.asarray(self.evaluate(self.ones())["mach_model"]) >= 1))
 
     @property
     def names(self) -> list[str]:
@@ -106,10 +141,13 @@ class Design:
         from .requirements import check_all
         scale = np.asarray(scale, dtype=float)
         y = self.evaluate(scale)
-        finite = all(bool(np.all(np.isfinite(y[k]))) for k in self.outputs)
-        for k in ("density", "viscosity", "static_pressure", "model_length"):
-            if k in y and not np.all(np.asarray(y[k]) > 0.0):
-                finite = False
+        problems = trial_problems(y, self.model)
+        if self.model is not None and self.model.kind == "gas" and not problems \
+                and not self._sonic_ok:
+            sonic = int(np.count_nonzero(np.asarray(y["mach_model"]) >= 1.0))
+            if sonic:
+                problems.append(f"{sonic} at a test-section Mach number of 1 or more")
+        finite = not problems
         u, U2, half, mean = {}, {}, {}, {}
         for k in self.outputs:
             v = np.asarray(y[k])
@@ -129,7 +167,7 @@ class Design:
         conf["all"] = float(np.mean(every)) if finite else np.nan
         checks = check_all(self.study.requirements, y, self.study, self.setpoint, self.p,
                            trials=self.trials, margin=margin, finite=finite)
-        return Figures(scale, u, U2, half, mean, conf, checks, finite)
+        return Figures(scale, u, U2, half, mean, conf, checks, finite, tuple(problems))
 
 
 @dataclass
@@ -139,18 +177,19 @@ class SweepResult:
     key: str
     inputs: tuple
     scales: tuple          # one array of scales per swept input
+    spacing: str
     table: pd.DataFrame
     baseline: Figures
 
 
 def sweep_scales(low: float, high: float, points: int, spacing: str) -> np.ndarray:
-    """Scale values of a sweep (``log`` spacing needs ``low > 0``; 1 is always included).
+    """Scale values of a sweep (``log`` spacing needs ``low > 0``; 1 is added when inside).
 
     >>> sweep_scales(0.5, 2.0, 4, "linear").tolist()
     [0.5, 1.0, 1.5, 2.0]
     """
     if spacing == "log":
-        s = np.geomspace(max(low, 1e-3), high, points)
+        s = np.geomspace(low, high, points)
     else:
         s = np.linspace(low, high, points)
     if low <= 1.0 <= high and not np.any(np.isclose(s, 1.0)):
@@ -166,7 +205,7 @@ def _row(fig: Figures, design: Design) -> dict:
     for g, v in fig.conformity.items():
         row[f"conformity_{g}"] = v
     for c in fig.requirements:
-        row[f"requirement_{c.key}"] = c.met
+        row[f"met_{c.key}"] = c.met
     row["physical"] = fig.finite
     return row
 
@@ -189,7 +228,7 @@ def sweep(design: Design, key: str, inputs, low: float, high: float, points: int
         scale[idx] = point
         fig = design.figures(scale)
         rows.append({f"scale: {n}": v for n, v in zip(inputs, point)} | _row(fig, design))
-    return SweepResult(key, tuple(inputs), tuple(s for _ in idx), pd.DataFrame(rows),
+    return SweepResult(key, tuple(inputs), tuple(s for _ in idx), spacing, pd.DataFrame(rows),
                        design.figures(design.ones()))
 
 
@@ -231,7 +270,7 @@ def tightening(design: Design, variance_removed: dict[str, pd.Series], inputs) -
             k = band.output
             var = base.standard_uncertainty[k] ** 2
             frac = float(variance_removed.get(k, pd.Series(dtype=float)).get(inp.name, np.nan))
-            frac = max(frac, 0.0) if np.isfinite(frac) else np.nan
+            frac = min(max(frac, 0.0), 1.0) if np.isfinite(frac) else np.nan  # estimates
             row[f"variance_removed_{k}"] = frac * var
             row[f"variance_removed_percent_{k}"] = 100.0 * frac
             row[f"U_k2_halved_{k}"] = fig.expanded_k2[k]

@@ -45,14 +45,15 @@ def _first_to_tighten(result, sp) -> list[str]:
         return []
     name = t[t["controllable"]].index[0]
     line = [f"Input to control more tightly first: {name} ({t.loc[name, 'perturbs']})."]
-    if result.allocation is not None and not result.allocation.message:
-        a = result.allocation
-        line.append(f"Allocation meeting every requirement: cost {fmt(a.cost)}; fresh Monte Carlo "
-                    f"check {'passed' if a.verified else 'FAILED'} (see the requirements section).")
-    elif result.requirement_checks is not None:
+    if result.requirement_checks is not None:
         bad = [c.key for c in result.requirement_checks if not c.met]
         line.append("Requirements at the written tolerances: " + (
             "all met." if not bad else f"not met: {', '.join(bad)}."))
+    if result.allocation is not None:
+        a = result.allocation
+        line.append(f"No allocation meets the requirements: {a.message}." if a.message else
+                    f"Allocation meeting every requirement: cost {fmt(a.cost)}; fresh Monte Carlo "
+                    f"check {'passed' if a.verified else 'FAILED'} (see the requirements section).")
     return line
 
 

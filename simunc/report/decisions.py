@@ -70,7 +70,9 @@ def tightening_blocks(result) -> list[Block]:
     b = [Block("heading", "Which input to control more tightly")]
     t = result.tightening
     if t is not None and len(t):
-        src = "Shapley first_order_full" if result.shapley is not None else "Sobol S1"
+        src = ("Shapley first_order_full" if result.shapley is not None else
+               "Sobol S1, which ignores the correlations" if st.correlation is not None
+               else "Sobol S1")
         b.append(Block("paragraph", f"For each input: the variance of each matched group removed "
                        f"if the input were known exactly ({src} × Var(y)), and, on "
                        f"{result.design_trials} common-random-number trials, the expanded "
@@ -126,12 +128,17 @@ def requirement_blocks(result) -> list[Block]:
     if lim is not None and len(lim):
         b.append(Block("paragraph", f"Largest tolerance of each input alone (the others as "
                        f"written) that meets every requirement, on {ds.trials} common-random-number "
-                       f"trials with a margin against the noise of the design and verification samples (three "
-                       "standard errors of their difference). 'others break "
-                       "it': the other inputs alone already break a requirement; 'not limiting': "
+                       "trials with a margin against the noise of the design and verification "
+                       "samples (three standard errors of their difference). The search starts "
+                       "at the written tolerance. 'others break it': no tolerance of this input "
+                       "alone meets every requirement (the others break one); 'not limiting': "
                        f"met up to {ds.largest_scale:g} times the written tolerance."))
         b.append(Block("table", table(lim[["perturbs", "status", "largest_scale", "U_k2_written",
                                            "U_k2_allowed", "unit"]].reset_index())))
+        if (lim["status"] == "not achievable").any():
+            b.append(Block("paragraph", "**Not achievable at this set point:** the requirements "
+                           "fail even with every input known exactly; no tolerance can fix that "
+                           "(see the set-point section)."))
     a = result.allocation
     if a is None:
         b.append(Block("paragraph", "No input has a cost model (`cost` or `grades`), so no "
@@ -142,19 +149,25 @@ def requirement_blocks(result) -> list[Block]:
         b.append(Block("paragraph", f"**No allocation meets the requirements:** {a.message}."))
     else:
         how = ("continuous costs, minimised under a Gaussian surrogate of the requirements "
-               f"(GUM sensitivities, calibrated on the design sample; {a.rounds} rounds)"
+               f"(GUM sensitivities, calibrated on the design sample; rounds: {a.rounds})"
                if a.kind == "power" else f"instrument grades, cheapest combination that meets "
                f"the requirements ({a.rounds} combinations checked on the design sample)")
         extra = f" (as written: {fmt(a.cost_written)})" if a.cost_written is not None else ""
         b.append(Block("paragraph", f"Method: {how}. Total cost {fmt(a.cost)}{extra}."))
+        if a.note:
+            b.append(Block("paragraph", f"Note: {a.note}."))
         b.append(Block("paragraph", f"Verification by a fresh Monte Carlo run ({a.verify_trials} "
                        f"trials, independent seed stream): **{'every requirement met' if a.verified else 'NOT every requirement met'}**. "
-                       f"With every tolerance loosened by {100 * (LOOSEN - 1):.0f} %: "
+                       f"With every allocated tolerance loosened by {100 * (LOOSEN - 1):.0f} %: "
                        f"{'some requirement fails (the allocation is tight)' if a.fails_loosened else 'still met (the allocation has slack)'}."))
         rows = [(c.key, c.text, c.value, v.value, c.limit, "met" if c.met else "NOT met")
                 for c, v in zip(a.verification, a.loosened)]
         b.append(Block("table", table(pd.DataFrame(rows, columns=[
             "requirement", "statement", "achieved", f"loosened ×{LOOSEN:g}", "limit", "status"]))))
+    if a.table is None:
+        b.append(Block("paragraph", "No instrument-requirements table: no allocation meets the "
+                       "requirements."))
+        return b
     b.append(Block("paragraph", "Instrument and control requirements for the test plan (allowed "
                    "expanded uncertainty at k = 2, i.e. twice the standard uncertainty, with the "
                    "distribution assumed):"))
@@ -184,7 +197,12 @@ def sweep_blocks(result) -> list[Block]:
         b.append(Block("paragraph", f"**{sw.key}**: {' and '.join(sw.inputs)}, scale "
                        f"{fmt(float(sw.scales[0][0]))} to {fmt(float(sw.scales[0][-1]))}."))
         b.append(Block("figure", f"sweep_{i}.png", caption=f"Sweep {i}: " + ", ".join(sw.inputs)))
+        if not sw.table["physical"].all():
+            b.append(Block("paragraph", f"{int((~sw.table['physical']).sum())} points give "
+                           "non-physical or sonic trials (outside the similitude model): their "
+                           "figures are n/a."))
         if len(sw.inputs) == 1:
-            cols = [c for c in sw.table.columns if c.startswith(("scale", "U_k2", "conformity_all"))]
+            cols = [c for c in sw.table.columns if c.startswith(("scale", "U_k2", "conformity_all",
+                                                                 "met_", "physical"))]
             b.append(Block("table", table(sw.table[cols])))
     return b

@@ -113,9 +113,10 @@ def sweep_plot(result, sw) -> bytes:
     """1-D: U/tolerance and conformity against the scale; 2-D: contours over the two scales."""
     bands = result.study.bands
     tab = sw.table
+    log = sw.spacing == "log"
     if len(sw.inputs) == 1:
         s = tab[f"scale: {sw.inputs[0]}"].to_numpy(dtype=float)
-        fig, ax = plt.subplots(figsize=(7.0, 4.0))
+        fig, ax = plt.subplots(figsize=(7.0, 4.6))
         for band in bands:
             ax.plot(s, tab[f"U_k2_{band.output}"] / band.tolerance, marker="o", ms=3,
                     label=f"U (k = 2) of {band.output} / tolerance")
@@ -126,24 +127,34 @@ def sweep_plot(result, sw) -> bytes:
         ax2 = ax.twinx()
         ax2.plot(s, tab["conformity_all"], color="black", lw=1.5, label="P(all groups in band)")
         ax2.set_ylabel("conformity probability")
+        if log:
+            ax.set_xscale("log")
         h1, l1 = ax.get_legend_handles_labels()
         h2, l2 = ax2.get_legend_handles_labels()
-        ax.legend(h1 + h2, l1 + l2, fontsize=7, loc="best")
+        ax.legend(h1 + h2, l1 + l2, fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.16),
+                  ncol=2, frameon=False)
         ax.set_title(f"Tolerance sweep: {sw.inputs[0]}")
         return _png(fig)
     a, b = sw.scales
     shape = (len(a), len(b))
-    fig, axes = plt.subplots(1, 2, figsize=(11.0, 4.4))
-    conf = tab["conformity_all"].to_numpy(dtype=float).reshape(shape)
-    band = bands[0]
-    u = (tab[f"U_k2_{band.output}"].to_numpy(dtype=float) / band.tolerance).reshape(shape)
-    for ax, z, title in ((axes[0], conf, "P(all groups in band)"),
-                         (axes[1], u, f"U (k = 2) of {band.output} / tolerance")):
-        cs = ax.contourf(b, a, z, levels=12, cmap="viridis")
-        lines = ax.contour(b, a, z, levels=6, colors="white", linewidths=0.6)
-        ax.clabel(lines, fontsize=7, fmt="%.3g")
-        fig.colorbar(cs, ax=ax)
+    panels = [("conformity_all", 1.0, "P(all groups in band)")] + [
+        (f"U_k2_{band.output}", band.tolerance, f"U (k = 2) of {band.output} / tolerance")
+        for band in bands]
+    fig, axes = plt.subplots(1, len(panels), figsize=(5.4 * len(panels), 4.4), squeeze=False)
+    for ax, (col, div, title) in zip(axes[0], panels):
+        z = (tab[col].to_numpy(dtype=float) / div).reshape(shape)
+        if np.nanmax(z) - np.nanmin(z) <= 1e-12 * max(1.0, abs(np.nanmax(z))):
+            ax.text(0.5, 0.5, f"constant: {np.nanmax(z):.4g}", ha="center", va="center",
+                    transform=ax.transAxes)
+        else:
+            cs = ax.contourf(b, a, z, levels=12, cmap="viridis")
+            lines = ax.contour(b, a, z, levels=6, colors="white", linewidths=0.6)
+            ax.clabel(lines, fontsize=7, fmt="%.3g")
+            fig.colorbar(cs, ax=ax)
         ax.plot(1.0, 1.0, marker="o", color="red", ms=5)
+        if log:
+            ax.set_xscale("log")
+            ax.set_yscale("log")
         ax.set_xlabel(f"tolerance scale of {sw.inputs[1]}")
         ax.set_ylabel(f"tolerance scale of {sw.inputs[0]}")
         ax.set_title(title, fontsize=9)

@@ -41,16 +41,17 @@ def _requirements(result):
         "input_limits": None if lim is None else [{"input": n, **row} for n, row in lim.iterrows()],
         "allocation": None if a is None else {
             "kind": a.kind, "cost": a.cost, "cost_as_written": a.cost_written,
-            "message": a.message or None, "rounds": a.rounds,
+            "message": a.message or None, "note": a.note or None, "rounds": a.rounds,
             "scales": {i.name: float(v) for i, v in zip(result.inputs, a.scale)},
             "grades": dict(a.grades),
             "verified": a.verified if not a.message else False,
             "fails_when_loosened": a.fails_loosened if not a.message else None,
             "design": [_check(c) for c in a.design_checks],
-            "verification": {"trials": a.verify_trials, "seed": a.verify_seed,
-                             "checks": [_check(c) for c in a.verification]},
+            "verification": None if not a.verification else {
+                "trials": a.verify_trials, "seed": a.verify_seed,
+                "checks": [_check(c) for c in a.verification]},
             "loosened": [_check(c) for c in a.loosened],
-            "instrument_requirements": a.table.to_dict(orient="records"),
+            "instrument_requirements": None if a.table is None else a.table.to_dict(orient="records"),
         },
     }
 
@@ -114,6 +115,9 @@ def results_dict(result) -> dict:
             "specified_as": i.spec.size_kind, "written": i.spec.text,
             "coverage_factor": i.spec.coverage_factor if i.spec.size_kind == "expanded_uncertainty" else None,
             "standard_uncertainty": i.standard_uncertainty,
+            "gum_standard_uncertainty": i.gum_standard_uncertainty,
+            "controllable": bool(i.spec.controllable),
+            "note": i.spec.note or None,
             "unit": DIMENSIONS[TARGETS[i.target].dimension][1] or "1",
         } for i in result.inputs],
         "outputs": outputs,
@@ -159,7 +163,7 @@ def results_dict(result) -> dict:
         "tightening": None if result.tightening is None else [
             {"input": name, **row} for name, row in result.tightening.iterrows()],
         "requirements": _requirements(result),
-        "sweeps": [{"key": sw.key, "inputs": list(sw.inputs),
+        "sweeps": [{"key": sw.key, "inputs": list(sw.inputs), "spacing": sw.spacing,
                     "scales": [[float(v) for v in s] for s in sw.scales],
                     "points": sw.table.to_dict(orient="records")} for sw in result.sweeps],
         "envelope": None if result.envelope is None else {

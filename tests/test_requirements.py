@@ -449,3 +449,13 @@ def test_requirement_on_an_output_the_model_does_not_form(demo_dict, tmp_path, c
     with pytest.raises(StudyError) as exc:
         simunc.run(study, trials=200)   # ... that this study (no frequencies) does not form
     assert exc.value.key == "requirement[0].output"
+
+
+def test_tightening_uses_the_dependence_aware_index_with_correlations(demo_result):
+    # the demo correlates two transducers: "variance removed if known exactly" is the full
+    # first-order index Var(E[y | x_i]) / Var(y) of the Shapley analysis (Song, Nelson & Staum
+    # 2016), not the independent-input Sobol S1
+    t, sh = demo_result.tightening, demo_result.shapley["mach_difference"]
+    for name in t.index:
+        expected = 100.0 * min(max(float(sh.loc[name, "first_order_full"]), 0.0), 1.0)
+        assert t.loc[name, "variance_removed_percent_mach_difference"] == pytest.approx(expected)

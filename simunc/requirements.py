@@ -151,11 +151,6 @@ def check_all(requirements, y, study, setpoint, p: float, *, trials: int, margin
     return out
 
 
-def checks_table(checks) -> pd.DataFrame:
-    return pd.DataFrame([{"requirement": c.key, "text": c.text, "value": c.value,
-                          "limit": c.limit, "met": c.met} for c in checks])
-
-
 # ---------------------------------------------------------------------------
 # (a) one input at a time
 # ---------------------------------------------------------------------------
@@ -286,9 +281,9 @@ class Surrogate:
 
     def calibrate(self, scale: np.ndarray) -> None:
         d = self.design
-        fig = d.figures(scale)
-        st, sp = d.study, d.setpoint
         y = d.evaluate(scale)
+        fig = d.figures(scale, y=y)
+        st, sp = d.study, d.setpoint
         for k in self.sens:
             lin = float(self.sigma(k, scale[None, :])[0])
             u = fig.standard_uncertainty[k]

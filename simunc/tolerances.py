@@ -121,6 +121,7 @@ class Design:
         self.outputs = list(dict.fromkeys(outs))
         # Trials at Ma >= 1 count as not physical only when the written tolerances have none
         # (otherwise the main run has already warned about them).
+        self._memo: dict = {}
         self._sonic_ok = False
         if model is not None and model.kind == "gas":
             self._sonic_ok = bool(np.any(np.asarray(self.evaluate(self.ones())["mach_model"]) >= 1))
@@ -136,11 +137,20 @@ class Design:
         """Outputs with input j's deviations multiplied by ``scale[j]``."""
         return self.problem.evaluate(self.x * np.asarray(scale, dtype=float))
 
-    def figures(self, scale, margin: bool = False) -> Figures:
-        """:class:`Figures` at ``scale``; ``margin`` applies the design margins to requirements."""
+    def figures(self, scale, margin: bool = False, y=None) -> Figures:
+        """:class:`Figures` at ``scale``; ``margin`` applies the design margins to requirements.
+
+        ``y``: the outputs at ``scale`` when the caller already has them.  Figures of the
+        last few scale vectors are kept, so asking again (the written tolerances are asked
+        for by every analysis) costs nothing.
+        """
         from .requirements import check_all
-        scale = np.asarray(scale, dtype=float)
-        y = self.evaluate(scale)
+        scale = np.array(scale, dtype=float)  # a copy: the figures keep it
+        key = (scale.tobytes(), bool(margin))
+        if key in self._memo:
+            return self._memo[key]
+        if y is None:
+            y = self.evaluate(scale)
         problems = trial_problems(y, self.model)
         if self.model is not None and self.model.kind == "gas" and not problems \
                 and not self._sonic_ok:
@@ -167,7 +177,11 @@ class Design:
         conf["all"] = float(np.mean(every)) if finite else np.nan
         checks = check_all(self.study.requirements, y, self.study, self.setpoint, self.p,
                            trials=self.trials, margin=margin, finite=finite)
-        return Figures(scale, u, U2, half, mean, conf, checks, finite, tuple(problems))
+        fig = Figures(scale, u, U2, half, mean, conf, checks, finite, tuple(problems))
+        if len(self._memo) >= 64:
+            self._memo.pop(next(iter(self._memo)))
+        self._memo[key] = fig
+        return fig
 
 
 @dataclass

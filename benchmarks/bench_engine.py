@@ -8,7 +8,7 @@ Usage::
 For the demo study ``studies/arven_cruise.toml`` (its Problem built as in
 ``benchmarks/bench_propagation.py``) the script measures, in one run:
 
-(a) throughput: trials per second of :func:`simunc.propagate.propagate` at
+(a) throughput: trials per second of :func:`simunc.uncertainty.propagate.propagate` at
     ``--trials`` (default 10^7) trials, statistics of every output from the
     streaming histogram, for each sampling method in ``--methods``;
 (b) memory: the peak resident set size of a child process that runs one
@@ -44,12 +44,12 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from simunc.analysis import similitude_problem  # noqa: E402
-from simunc.inputs import build_inputs  # noqa: E402
-from simunc.propagate import adaptive, propagate  # noqa: E402
-from simunc.sampling import BLOCK_SIZE  # noqa: E402
-from simunc.setpoint import build_model, solve  # noqa: E402
-from simunc.study import load_study  # noqa: E402
+from simunc.pipeline import similitude_problem
+from simunc.similitude.inputs import build_inputs
+from simunc.similitude.setpoint import build_model, solve
+from simunc.spec.readers import load_study
+from simunc.uncertainty.propagate import adaptive, propagate
+from simunc.uncertainty.sampling import BLOCK_SIZE
 
 STUDY = ROOT / "studies" / "arven_cruise.toml"
 TARGET_MEMORY_BYTES = 2 * 10**9

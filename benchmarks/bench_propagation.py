@@ -6,10 +6,10 @@ Usage::
 
 For the demo study ``studies/arven_cruise.toml`` the script
 
-1. solves the set point and builds the :class:`simunc.propagate.Problem`;
-2. times the framework path: :func:`simunc.propagate.monte_carlo`, then
-   :func:`simunc.propagate.summarize` on every output and
-   :func:`simunc.analysis.conformity`;
+1. solves the set point and builds the :class:`simunc.uncertainty.problem.Problem`;
+2. times the framework path: :func:`simunc.uncertainty.propagate.monte_carlo`, then
+   :func:`simunc.uncertainty.propagate.summarize` on every output and
+   :func:`simunc.pipeline.conformity`;
 3. times a hand-written plain-numpy evaluation of the same measurement model
    (isentropic relations, Sutherland law, Reynolds number written inline) on
    the same PCG64 uniforms, with the same statistics (mean, standard
@@ -32,13 +32,13 @@ comparison would then be meaningless), else 0.
 from __future__ import annotations
 
 import argparse
-from dataclasses import replace
 import gc
 import math
 import os
 import platform
 import sys
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -49,12 +49,12 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from simunc.analysis import conformity, similitude_problem  # noqa: E402
-from simunc.inputs import build_inputs  # noqa: E402
-from simunc.propagate import monte_carlo, summarize  # noqa: E402
-from simunc.sampling import map_to_inputs, unit_samples  # noqa: E402
-from simunc.setpoint import build_model, solve  # noqa: E402
-from simunc.study import load_study  # noqa: E402
+from simunc.pipeline import conformity, similitude_problem
+from simunc.similitude.inputs import build_inputs
+from simunc.similitude.setpoint import build_model, solve
+from simunc.spec.readers import load_study
+from simunc.uncertainty.propagate import monte_carlo, summarize
+from simunc.uncertainty.sampling import map_to_inputs, unit_samples
 
 STUDY = ROOT / "studies" / "arven_cruise.toml"
 TARGET_RATIO = 1.5

@@ -12,7 +12,7 @@ Its correlation table is dropped (Sobol' indices take independent inputs).
 
 Measured, in one run:
 
-(a) the target case: :func:`simunc.sensitivity.sobol_analysis` with first and total indices
+(a) the target case: :func:`simunc.uncertainty.sobol.sobol_analysis` with first and total indices
     and their bootstrap confidence intervals (R = 200 resamples, the default), 12 inputs,
     N = 2^13, on 10 outputs (the matched-group outputs plus the next varying model outputs);
     wall time of each of ``--repeats`` runs and the best, against the target of 5 s;
@@ -43,12 +43,12 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from simunc.analysis import similitude_problem  # noqa: E402
-from simunc.inputs import build_inputs  # noqa: E402
-from simunc.propagate import Problem  # noqa: E402
-from simunc.sensitivity import sobol_analysis  # noqa: E402
-from simunc.setpoint import build_model, solve  # noqa: E402
-from simunc.study import parse_study  # noqa: E402
+from simunc.pipeline import similitude_problem
+from simunc.similitude.inputs import build_inputs
+from simunc.similitude.setpoint import build_model, solve
+from simunc.spec.readers import parse_study
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.sobol import sobol_analysis
 
 STUDY = ROOT / "studies" / "arven_cruise.toml"
 TARGET_SECONDS = 5.0

@@ -9,7 +9,7 @@ Python API (mirrors the command line)::
     result.statistics                        # pandas DataFrame, SI
     simunc.write_report(result, "out")       # report.md, report.html, results.json, figures
 
-The names are imported on first use, so ``import simunc.fluids`` (say) does not
+The names are imported on first use, so ``import simunc.physics.fluids`` (say) does not
 load the report machinery.
 """
 
@@ -18,11 +18,11 @@ from importlib import import_module
 __version__ = "0.1.0"
 
 _API = {
-    "load_study": "study", "parse_study": "study", "Study": "study",
-    "solve": "setpoint", "SetPoint": "setpoint",
-    "run": "analysis", "Result": "analysis",
+    "load_study": "spec.readers", "parse_study": "spec.readers", "Study": "spec.schema",
+    "solve": "similitude.setpoint", "SetPoint": "similitude.setpoint",
+    "prepare": "pipeline", "Prepared": "pipeline", "run": "pipeline", "Result": "pipeline",
     "write_report": "report",
-    "SimuncError": "errors", "StudyError": "errors", "InfeasibleError": "errors",
+    "SimuncError": "errors", "StudyError": "errors",
 }
 
 __all__ = ["__version__", *_API]

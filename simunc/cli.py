@@ -11,8 +11,14 @@ import argparse
 import os
 import sys
 
-from . import __version__
-from .errors import EXIT_BAD_INPUT, EXIT_INTERNAL, EXIT_OK, SimuncError, StudyError
+from simunc import __version__
+from simunc.errors import (
+    EXIT_BAD_INPUT,
+    EXIT_INTERNAL,
+    EXIT_OK,
+    SimuncError,
+    StudyError,
+)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -67,12 +73,12 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _check(args) -> int:
-    from .setpoint import solve
-    from .study import load_study
+    from simunc.similitude.setpoint import solve
+    from simunc.spec.readers import load_study
 
     study = load_study(args.study)
     sp = solve(study)
-    from .planning_spec import check_outputs
+    from simunc.spec.planning import check_outputs
     check_outputs(study, sp.outputs)
     o = sp.outputs
     print(f"{args.study}: valid study '{study.title}' with {len(study.inputs)} uncertain inputs")
@@ -92,7 +98,7 @@ def _check(args) -> int:
 
 
 def _cli_sweeps(args, study) -> tuple:
-    from .planning_spec import sweep
+    from simunc.spec.planning import sweep
 
     if not args.input:
         if args.scale is not None or args.points is not None:
@@ -117,11 +123,10 @@ def _cli_sweeps(args, study) -> tuple:
 
 
 def _run(args) -> int:
-    from .analysis import run
-    from .report import write_report
-    from .study import load_study
-
-    from .report.write import check_out_dir
+    from simunc.pipeline import run
+    from simunc.report import write_report
+    from simunc.report.write import check_out_dir
+    from simunc.spec.readers import load_study
 
     check_out_dir(args.out)
     study = load_study(args.study)

@@ -47,8 +47,3 @@ class StudyError(SimuncError, ValueError):
             msg += f" ({hint})"
         super().__init__(" ".join(msg.split()))
 
-
-class InfeasibleError(SimuncError):
-    """A computation that has no answer for the given study (e.g. no root)."""
-
-    exit_code = EXIT_BAD_INPUT

@@ -12,7 +12,7 @@ from dataclasses import dataclass
 
 import pint
 
-from .errors import StudyError
+from simunc.errors import StudyError
 
 ureg = pint.UnitRegistry()
 

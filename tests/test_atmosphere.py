@@ -1,4 +1,4 @@
-"""simunc.atmosphere and the air property model against the 1976 U.S. Standard Atmosphere.
+"""simunc.physics.atmosphere and the air property model against the 1976 U.S. Standard Atmosphere.
 
 Check values come from
 * U.S. Standard Atmosphere, 1976 (NOAA-S/T 76-1562), Table I (geometric
@@ -16,9 +16,14 @@ import math
 import numpy as np
 import pytest
 
-from simunc.atmosphere import (ALTITUDE_RANGE, geometric_altitude, geopotential_altitude,
-                               pressure_altitude, standard_state)
-from simunc.fluids.ideal_gas import AIR
+from simunc.physics.atmosphere import (
+    ALTITUDE_RANGE,
+    geometric_altitude,
+    geopotential_altitude,
+    pressure_altitude,
+    standard_state,
+)
+from simunc.physics.fluids.ideal_gas import AIR
 
 # Constants of the 1976 standard (from memory of U.S. Standard Atmosphere 1976, Part 1,
 # Table 2 and eq. 18): g0, R* / M0 and the effective Earth radius r0.

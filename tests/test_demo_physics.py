@@ -13,7 +13,7 @@ import math
 import pytest
 
 import simunc
-from simunc.model import GRAVITY
+from simunc.constants import STANDARD_GRAVITY
 
 from .conftest import ROOT
 
@@ -52,7 +52,7 @@ def test_towing_tank_froude_speed_and_reynolds_shortfall():
     l_fs, l_m, u_fs = 120.0, 4.0, 7.2
     u_m = u_fs * math.sqrt(l_m / l_fs)        # Froude similitude: U / sqrt(g L) equal
     assert sp.nominal["speed"] == pytest.approx(u_m, rel=1e-5)
-    assert sp.outputs["froude_model"] == pytest.approx(u_m / math.sqrt(GRAVITY * l_m), rel=1e-5)
+    assert sp.outputs["froude_model"] == pytest.approx(u_m / math.sqrt(STANDARD_GRAVITY * l_m), rel=1e-5)
     t_m, t_fs = 291.15, 288.15
     nu_m = (CP.PropsSI("V", "T", t_m, "P", 101_325.0, "Water")
             / CP.PropsSI("D", "T", t_m, "P", 101_325.0, "Water"))

@@ -1,4 +1,4 @@
-"""simunc.dimensional: dimension matrices and Buckingham Pi groups.
+"""simunc.physics.dimensional: dimension matrices and Buckingham Pi groups.
 
 Sources of the expected groups
 * E. Buckingham, Phys. Rev. 4 (1914) 345: n - r independent groups, r the
@@ -26,8 +26,8 @@ from fractions import Fraction
 import numpy as np
 import pytest
 
-from simunc import groups as G
-from simunc.dimensional import (
+from simunc.physics import groups as G
+from simunc.physics.dimensional import (
     BASE_DIMENSIONS,
     dimension_matrix,
     group_formula,

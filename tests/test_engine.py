@@ -1,4 +1,4 @@
-"""The streaming Monte Carlo engine: simunc.propagate.propagate and adaptive, and the sampling.
+"""The streaming Monte Carlo engine: simunc.uncertainty.propagate.propagate and adaptive, and the sampling.
 
 Check values come from
 * NIST StRD univariate summary statistics, NumAcc1-NumAcc4 (certified mean and
@@ -30,18 +30,34 @@ import numpy as np
 import pytest
 from scipy import special, stats
 
-from simunc.analysis import similitude_problem
-from simunc.inputs import build_inputs
-from simunc.propagate import Problem, adaptive, monte_carlo, propagate, summarize
-from simunc.sampling import (BLOCK_SIZE, METHODS, correlation_factor, gaussian_copula,
-                             map_to_inputs, unit_block)
-from simunc.setpoint import build_model, solve
-from simunc.statistics import ConformityCounter, numerical_tolerance, shortest_interval
-from simunc.study import load_study
+from simunc.pipeline import similitude_problem
+from simunc.similitude.inputs import build_inputs
+from simunc.similitude.setpoint import build_model, solve
+from simunc.spec.readers import load_study
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.propagate import adaptive, monte_carlo, propagate, summarize
+from simunc.uncertainty.sampling import (
+    BLOCK_SIZE,
+    METHODS,
+    correlation_factor,
+    gaussian_copula,
+    map_to_inputs,
+    unit_block,
+)
+from simunc.uncertainty.statistics import (
+    ConformityCounter,
+    numerical_tolerance,
+    shortest_interval,
+)
 
 from .conftest import DEMO
-from .test_propagate_jcgm101 import (SQRT3, convolution_cdf, quantile, sum_of_uniforms_cdf,
-                                     sum_of_uniforms_pdf)
+from .test_propagate_jcgm101 import (
+    SQRT3,
+    convolution_cdf,
+    quantile,
+    sum_of_uniforms_cdf,
+    sum_of_uniforms_pdf,
+)
 from .test_statistics import NUMACC, exact_mean_sd, numacc
 
 K_SE = 5.0

@@ -12,12 +12,21 @@ import math
 import numpy as np
 import pytest
 
-from simunc.envelope import envelope, reynolds_band
-from simunc.setpoint import build_model, solve
-from simunc.study import parse_study
-from simunc.testplan import SWEEP_POINTS, plan
+from simunc.similitude.envelope import envelope, reynolds_band
+from simunc.similitude.setpoint import build_model, solve
+from simunc.similitude.testplan import SWEEP_POINTS, plan
+from simunc.spec.readers import parse_study
 
-from .test_setpoint import L_FS, M_FS, P_FS, T0, T_FS, base_study, full_scale_re, tunnel_re
+from .test_setpoint import (
+    L_FS,
+    M_FS,
+    P_FS,
+    T0,
+    T_FS,
+    base_study,
+    full_scale_re,
+    tunnel_re,
+)
 
 
 def _infeasible():

@@ -1,4 +1,4 @@
-"""simunc.flow (isentropic relations, dynamic pressure) and the Sutherland viscosity of air.
+"""simunc.physics.flow (isentropic relations, dynamic pressure) and the Sutherland viscosity of air.
 
 Check values come from
 * NACA Report 1135 (Ames Research Staff, 1953), Table I, gamma = 1.4, marked
@@ -16,8 +16,8 @@ import math
 import numpy as np
 import pytest
 
-from simunc import flow
-from simunc.fluids.ideal_gas import AIR, T_REF
+from simunc.physics import flow
+from simunc.physics.fluids.ideal_gas import AIR, T_REF
 
 # NACA Report 1135, Table I (subsonic flow, gamma = 1.4):
 # M, p/p0, rho/rho0, T/T0, q/p0 (None where the entry is not recalled reliably).

@@ -1,4 +1,4 @@
-"""simunc.groups: Froude, Strouhal, reduced frequency, Weber, Prandtl, Euler,
+"""simunc.physics.groups: Froude, Strouhal, reduced frequency, Weber, Prandtl, Euler,
 pressure coefficient and cavitation number.
 
 Check values come from
@@ -13,7 +13,7 @@ Check values come from
   *Fluid Mechanics*, Table A.5), used only as an input;
 * a dimensional check with pint: every group evaluated on Quantities in mixed
   units must be dimensionless and equal to its value in SI floats;
-* a cross-check with simunc.dimensional: the default Buckingham group of each
+* a cross-check with simunc.physics.dimensional: the default Buckingham group of each
   group's own variables has the exponents of the formula implemented here.
 """
 
@@ -24,8 +24,8 @@ import math
 import numpy as np
 import pytest
 
-from simunc import groups as G
-from simunc.dimensional import pi_groups
+from simunc.physics import groups as G
+from simunc.physics.dimensional import pi_groups
 from simunc.units import ureg
 
 Q = ureg.Quantity

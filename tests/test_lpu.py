@@ -1,4 +1,4 @@
-"""simunc.lpu: GUM uncertainty framework (JCGM 100:2008) and its validation (JCGM 101:2008, 8).
+"""simunc.uncertainty.lpu: GUM uncertainty framework (JCGM 100:2008) and its validation (JCGM 101:2008, 8).
 
 Check values come from
 * the ``uncertainties`` package propagating the non-linear models directly
@@ -7,7 +7,7 @@ Check values come from
   (JCGM 100:2008, eq. (13)), the exact distribution of a sum of uniforms
   (Irwin-Hall), normal and Student-t quantiles from scipy.stats;
 * JCGM 101:2008 9.2.2-9.2.4 and JCGM 100:2008 H.1, marked where recalled;
-* Monte Carlo runs of simunc.propagate, with tolerances that are multiples of
+* Monte Carlo runs of simunc.uncertainty.propagate, with tolerances that are multiples of
   the Monte Carlo standard error (five standard errors, as in
   tests/test_propagate_jcgm101.py).
 """
@@ -24,9 +24,17 @@ import uncertainties
 from scipy import optimize, stats
 from uncertainties import umath
 
-from simunc.lpu import (DEFAULT_STEP, coverage_factor, lpu, numerical_tolerance,
-                        sensitivity_coefficients, validate, welch_satterthwaite)
-from simunc.propagate import Problem, monte_carlo, summarize
+from simunc.uncertainty.lpu import (
+    DEFAULT_STEP,
+    coverage_factor,
+    lpu,
+    numerical_tolerance,
+    sensitivity_coefficients,
+    validate,
+    welch_satterthwaite,
+)
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.propagate import monte_carlo, summarize
 
 from .test_propagate_jcgm101 import irwin_hall_cdf, irwin_hall_pdf
 
@@ -467,11 +475,11 @@ def test_refusals():
 # ---------------------------------------------------------------------------
 @pytest.fixture(scope="module")
 def demo_problem():
-    # Built exactly as simunc.analysis.run builds it.
+    # Built exactly as simunc.pipeline.run builds it.
     import simunc
-    from simunc.analysis import similitude_problem
-    from simunc.inputs import build_inputs
-    from simunc.setpoint import build_model, solve
+    from simunc.pipeline import similitude_problem
+    from simunc.similitude.inputs import build_inputs
+    from simunc.similitude.setpoint import build_model, solve
 
     study = simunc.load_study(Path(__file__).resolve().parent.parent / "studies" / "arven_cruise.toml")
     setpoint = solve(study)

@@ -1,4 +1,4 @@
-"""simunc.fluids.moist_air against the CIPM-2007 equations, IAPWS-95 and CoolProp.
+"""simunc.physics.fluids.moist_air against the CIPM-2007 equations, IAPWS-95 and CoolProp.
 
 Check values come from
 * the CIPM-2007 equations (Picard et al., Metrologia 45 (2008) 149) worked by hand
@@ -30,13 +30,24 @@ CP = pytest.importorskip("CoolProp")
 from CoolProp.CoolProp import AbstractState, PropsSI  # noqa: E402
 from CoolProp.HumidAirProp import HAPropsSI  # noqa: E402
 
-from simunc.fluids.base import Fluid  # noqa: E402
-from simunc.fluids.ideal_gas import AIR  # noqa: E402
-from simunc.fluids.moist_air import (  # noqa: E402
-    CIPM_TEMPERATURE_RANGE, M_VAPOUR, MOIST_AIR, STATED_UNCERTAINTY_CIPM,
-    STATED_UNCERTAINTY_EXTENDED, MoistAir, compressibility, enhancement_factor,
-    relative_humidity, saturation_vapour_pressure, vapour_mole_fraction_from_dew_point,
-    vapour_mole_fraction_from_relative_humidity, water_vapour_viscosity, wilke_viscosity)
+from simunc.physics.fluids.base import Fluid
+from simunc.physics.fluids.ideal_gas import AIR
+from simunc.physics.fluids.moist_air import (
+    CIPM_TEMPERATURE_RANGE,
+    M_VAPOUR,
+    MOIST_AIR,
+    STATED_UNCERTAINTY_CIPM,
+    STATED_UNCERTAINTY_EXTENDED,
+    MoistAir,
+    compressibility,
+    enhancement_factor,
+    relative_humidity,
+    saturation_vapour_pressure,
+    vapour_mole_fraction_from_dew_point,
+    vapour_mole_fraction_from_relative_humidity,
+    water_vapour_viscosity,
+    wilke_viscosity,
+)
 
 P_ATM = 101_325.0
 T_GRID = np.arange(283.15, 313.16, 5.0)          # 10 .. 40 degC

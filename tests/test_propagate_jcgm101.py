@@ -1,4 +1,4 @@
-"""simunc.propagate on the additive model of JCGM 101:2008, section 9.2.
+"""simunc.uncertainty.propagate on the additive model of JCGM 101:2008, section 9.2.
 
 Y = X1 + X2 + X3 + X4 with independent inputs of zero expectation.
 
@@ -27,8 +27,9 @@ import numpy as np
 import pytest
 from scipy import integrate, optimize, stats
 
-from simunc.inputs import make_distribution
-from simunc.propagate import Problem, monte_carlo, summarize
+from simunc.uncertainty.distributions import make_distribution
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.propagate import monte_carlo, summarize
 
 M_TRIALS = 1_000_000
 K_SE = 5.0
@@ -147,7 +148,7 @@ def test_9_2_3_rectangular_inputs_equal_widths():
 
 
 def test_9_2_3_with_make_distribution():
-    # The same case built through simunc.inputs.make_distribution("rectangular", u=1).
+    # The same case built through simunc.uncertainty.distributions.make_distribution("rectangular", u=1).
     dists = [make_distribution("rectangular", 1.0) for _ in range(4)]
     for d in dists:
         # half-width sqrt(3) for u = 1 (JCGM 100:2008, 4.3.7: u = a / sqrt(3))

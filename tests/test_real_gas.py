@@ -1,4 +1,4 @@
-"""Real gases through CoolProp (simunc.fluids.real_gas) against CoolProp itself.
+"""Real gases through CoolProp (simunc.physics.fluids.coolprop_gas) against CoolProp itself.
 
 Reference values come from the reference library CoolProp (``PropsSI``, HEOS
 backend: Span et al. 2000 for nitrogen, Lemmon et al. 2000 for air, Lemmon &
@@ -14,9 +14,9 @@ import pytest
 from CoolProp.CoolProp import PropsSI
 from scipy.optimize import brentq
 
-from simunc.fluids.base import GasModel
-from simunc.fluids.ideal_gas import AIR
-from simunc.fluids.real_gas import AIR_REAL, NITROGEN, CoolPropGas
+from simunc.physics.fluids.base import GasModel
+from simunc.physics.fluids.coolprop_gas import AIR_REAL, NITROGEN, CoolPropGas
+from simunc.physics.fluids.ideal_gas import AIR
 
 #: Scattered test states [(p [Pa], T [K])]: cryogenic nitrogen 110-130 K at 1-5 bar and
 #: warm nitrogen; pressurised air 250-330 K at 1-10 bar.
@@ -173,7 +173,7 @@ def test_static_state_invalid_inputs_give_nan():
 
 
 # ----------------------------------------------- (3) perfect gas vs reference air
-#: Largest deviations of simunc.fluids.ideal_gas.AIR from CoolProp's air measured over
+#: Largest deviations of simunc.physics.fluids.ideal_gas.AIR from CoolProp's air measured over
 #: 250-330 K and 1-10 bar (this test, CoolProp 8.0); the bounds asserted are these rounded up.
 IDEAL_AIR_MEASURED = {
     "density": 9.16e-3,             # perfect gas low by 0.92 % at 250 K, 10 bar

@@ -1,4 +1,4 @@
-"""Requirement solver, allocation, tolerance sweeps and tightening (simunc.requirements, .tolerances).
+"""Requirement solver, allocation, tolerance sweeps and tightening (simunc.decisions.allocation, .tolerances).
 
 Reference results used here, all closed forms outside simunc:
 
@@ -33,12 +33,15 @@ from scipy import stats
 
 import simunc
 from simunc.cli import main
+from simunc.decisions.allocation import allocate, input_limits
+from simunc.decisions.design import Design
+from simunc.decisions.requirements import margins
+from simunc.decisions.sweeps import sweep
+from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
-from simunc.planning_spec import CostModel, DesignSettings, Requirement
-from simunc.propagate import Problem
-from simunc.requirements import allocate, input_limits, margins
-from simunc.study import Band, RunSettings, parse_study
-from simunc.tolerances import Design, sweep, tightening
+from simunc.spec.readers import parse_study
+from simunc.spec.schema import Band, CostModel, DesignSettings, Requirement, RunSettings
+from simunc.uncertainty.problem import Problem
 from simunc.units import Parsed
 
 Z95 = stats.norm.ppf(0.975)
@@ -58,7 +61,7 @@ SIGMA = math.sqrt(V.sum())
 
 @dataclass
 class FakeStudy:
-    """The attributes of simunc.study.Study that the decision engines read."""
+    """The attributes of simunc.spec.schema.Study that the decision engines read."""
 
     bands: tuple
     requirements: tuple
@@ -325,7 +328,7 @@ def test_cli_commands(tmp_path, capsys, demo_text, write_study):
 
 
 def test_control_excursion_past_a_facility_limit_is_flagged(demo_result):
-    from simunc.requirements import control_excursions
+    from simunc.decisions.allocation import control_excursions
     inputs, sp = demo_result.inputs, demo_result.setpoint
     j = [i.name for i in inputs].index("p0 control stability")
     scale = np.ones(len(inputs))
@@ -396,8 +399,8 @@ def test_cancelling_correlated_errors_are_not_reported_unreachable(demo_full_dic
 
 def test_non_physical_sweep_points_are_flagged(demo_result):
     study = demo_result.study
-    from simunc.analysis import similitude_problem
-    from simunc.setpoint import build_model
+    from simunc.pipeline import similitude_problem
+    from simunc.similitude.setpoint import build_model
     model = build_model(study, study.facility.fluids[0])
     prob = similitude_problem(model, demo_result.setpoint, demo_result.inputs)
     d = Design(prob, study, demo_result.setpoint, 5000, 11, model=model)
@@ -432,7 +435,7 @@ def test_requirement_no_tolerance_can_meet_gives_no_table(tmp_path):
 
 
 def test_relative_grade_is_a_fraction_of_the_reading(demo_result):
-    from simunc.requirements import grade_scale
+    from simunc.decisions.allocation import grade_scale
     inp = next(i for i in demo_result.inputs if i.name == "p0 transducer calibration")
     grade = ("g", Parsed(0.001, True), 100.0, "0.1 %")
     p0 = demo_result.setpoint.outputs["stagnation_pressure"]

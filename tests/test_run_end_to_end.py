@@ -16,8 +16,9 @@ import pytest
 
 import simunc
 from simunc.cli import main
-from simunc.inputs import make_distribution, standard_uncertainty
-from simunc.study import InputSpec
+from simunc.similitude.inputs import standard_uncertainty
+from simunc.spec.schema import InputSpec
+from simunc.uncertainty.distributions import make_distribution
 from simunc.units import Parsed
 
 from .conftest import DEMO

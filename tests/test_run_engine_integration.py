@@ -3,7 +3,7 @@
 Check values: the law of propagation of uncertainty with correlation terms
 (JCGM 100:2008, eq. 13) evaluated by hand from sensitivity coefficients that
 are computed here by central differences of the model, independently of
-simunc.lpu; JCGM 101:2008 7.9 for the adaptive stopping rule.
+simunc.uncertainty.lpu; JCGM 101:2008 7.9 for the adaptive stopping rule.
 """
 
 from __future__ import annotations
@@ -15,9 +15,9 @@ import numpy as np
 import pytest
 
 import simunc
-from simunc.analysis import similitude_problem
-from simunc.inputs import build_inputs
-from simunc.setpoint import build_model, solve
+from simunc.pipeline import similitude_problem
+from simunc.similitude.inputs import build_inputs
+from simunc.similitude.setpoint import build_model, solve
 
 from .conftest import DEMO
 

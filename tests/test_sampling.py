@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from simunc.propagate import quantiles
-from simunc.sampling import inverse_cdf, map_to_inputs, unit_samples
+from simunc.uncertainty.propagate import quantiles
+from simunc.uncertainty.sampling import inverse_cdf, map_to_inputs, unit_samples
 
 
 @pytest.mark.parametrize("dist", [stats.norm(1.5, 0.3), stats.uniform(-2.0, 4.0),

@@ -1,4 +1,4 @@
-"""simunc.sensitivity.sobol_analysis: second-order and grouped indices, GUM budget agreement.
+"""simunc.uncertainty.sobol.sobol_analysis: second-order and grouped indices, GUM budget agreement.
 
 Check values and their sources
 ------------------------------
@@ -50,10 +50,16 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from simunc.lpu import lpu
-from simunc.propagate import Problem
-from simunc.sensitivity import (FIRST_TOTAL_COLUMNS, SobolResult, _saltelli_design,
-                                _base_sequence, sobol_analysis, sobol_indices)
+from simunc.uncertainty.lpu import lpu
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.sobol import (
+    FIRST_TOTAL_COLUMNS,
+    SobolResult,
+    _base_sequence,
+    _saltelli_design,
+    sobol_analysis,
+    sobol_indices,
+)
 
 from .test_sensitivity_ishigami import A, B, _ishigami_problem, ishigami_analytic
 
@@ -298,7 +304,7 @@ def test_design_equals_salib_sample():
 
 
 def test_first_total_equal_salib():
-    # The path simunc.analysis uses (second_order=False): same numbers as SALib.
+    # The path simunc.pipeline uses (second_order=False): same numbers as SALib.
     p = _ishigami_problem()
     _, ref = _salib(p, lambda u: p.evaluate_unit(u)["y"], 1024, 9)
     t = sobol_indices(p, ["y"], 1024, 9)["y"]

@@ -1,4 +1,4 @@
-"""simunc.sensitivity.sobol_indices on models with known Sobol indices.
+"""simunc.uncertainty.sobol.sobol_indices on models with known Sobol indices.
 
 1. The Ishigami function (T. Ishigami, T. Homma, "An importance quantification
    technique in uncertainty analysis for computer models", Proc. ISUMA '90,
@@ -30,8 +30,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from simunc.propagate import Problem
-from simunc.sensitivity import sobol_indices
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.sobol import sobol_indices
 
 A, B = 7.0, 0.1
 

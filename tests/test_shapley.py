@@ -1,4 +1,4 @@
-"""simunc.shapley.shapley_effects on models with known Shapley effects.
+"""simunc.uncertainty.shapley.shapley_effects on models with known Shapley effects.
 
 Check values and their sources
 ------------------------------
@@ -56,10 +56,13 @@ import numpy as np
 import pytest
 from scipy import special, stats
 
-from simunc.propagate import Problem
-from simunc.shapley import (COLUMNS, conditional_normal_scores, shapley_effects,
-                            shapley_weights)
-
+from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.shapley import (
+    COLUMNS,
+    conditional_normal_scores,
+    shapley_effects,
+    shapley_weights,
+)
 
 # ---------------------------------------------------------------------------
 # Closed forms (derived in the module docstring)

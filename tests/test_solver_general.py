@@ -13,10 +13,20 @@ import math
 import pytest
 
 from simunc.errors import StudyError
-from simunc.setpoint import build_model, solve
-from simunc.study import parse_study
+from simunc.similitude.setpoint import build_model, solve
+from simunc.spec.readers import parse_study
 
-from .test_setpoint import L_FS, M_FS, P_FS, T0, T_FS, base_study, full_scale_re, sound_hand, tunnel_re
+from .test_setpoint import (
+    L_FS,
+    M_FS,
+    P_FS,
+    T0,
+    T_FS,
+    base_study,
+    full_scale_re,
+    sound_hand,
+    tunnel_re,
+)
 
 
 def _solved(d):
@@ -167,9 +177,9 @@ def test_condensing_humidity_is_reported():
                                   "saltmarsh_towing_tank"])
 def test_no_target_shares_a_name_with_a_model_input(name):
     # A deviation key equal to a nominal key would overwrite the nominal value (simunc contract).
-    from simunc.model import TARGETS
-    from simunc.setpoint import nominal_state
-    from simunc.study import load_study
+    from simunc.similitude.setpoint import nominal_state
+    from simunc.spec.catalogue import TARGETS
+    from simunc.spec.readers import load_study
 
     from .conftest import ROOT
 
@@ -178,8 +188,8 @@ def test_no_target_shares_a_name_with_a_model_input(name):
 
 
 def test_stated_property_uncertainty_as_an_input(demo_dict):
-    from simunc.fluids import AIR
-    from simunc.inputs import build_inputs
+    from simunc.physics.fluids import AIR
+    from simunc.similitude.inputs import build_inputs
 
     demo_dict.pop("correlations", None)
     demo_dict["uncertain"] = [{"name": "mu model", "perturbs": "viscosity_model",

@@ -21,10 +21,11 @@ import pytest
 from scipy import integrate, stats
 
 from simunc.errors import StudyError
-from simunc.inputs import build_inputs, make_distribution, truncated_normal_std
-from simunc.sampling import map_to_inputs, unit_samples
-from simunc.setpoint import solve
-from simunc.study import parse_study
+from simunc.similitude.inputs import build_inputs
+from simunc.similitude.setpoint import solve
+from simunc.spec.readers import parse_study
+from simunc.uncertainty.distributions import make_distribution, truncated_normal_std
+from simunc.uncertainty.sampling import map_to_inputs, unit_samples
 
 P0 = "stagnation_pressure_indication"
 PS = "static_pressure_indication"

@@ -1,4 +1,4 @@
-"""simunc.statistics: coverage intervals, numerical tolerance, conformity, streaming accumulators.
+"""simunc.uncertainty.statistics: coverage intervals, numerical tolerance, conformity, streaming accumulators.
 
 Check values come from
 * JCGM 101:2008 (Supplement 1 to the GUM), 7.7 (coverage intervals from order
@@ -20,10 +20,18 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from simunc.statistics import (ConformityCounter, HistogramQuantiles, Moments, PairwiseMoments,
-                               conformity_probability, coverage_count, coverage_factor,
-                               numerical_tolerance, shortest_interval,
-                               symmetric_interval)
+from simunc.uncertainty.statistics import (
+    ConformityCounter,
+    HistogramQuantiles,
+    Moments,
+    PairwiseMoments,
+    conformity_probability,
+    coverage_count,
+    coverage_factor,
+    numerical_tolerance,
+    shortest_interval,
+    symmetric_interval,
+)
 
 
 # ---------------------------------------------------------------------------

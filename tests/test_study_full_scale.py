@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from simunc.study import parse_study
 from simunc.errors import StudyError
+from simunc.spec.readers import parse_study
 
 from .test_setpoint import base_study
 

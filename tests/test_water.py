@@ -1,4 +1,4 @@
-"""simunc.fluids.water against published tables, CoolProp and TEOS-10.
+"""simunc.physics.fluids.water against published tables, CoolProp and TEOS-10.
 
 Check values come from
 * Tanaka et al., Metrologia 38 (2001) 301, Table of water density (from memory);
@@ -31,12 +31,21 @@ import pytest
 pytest.importorskip("CoolProp")
 from CoolProp.CoolProp import PropsSI  # noqa: E402
 
-from simunc.fluids.base import Fluid  # noqa: E402
-from simunc.fluids.water import (  # noqa: E402
-    FRESH_WATER, MAX_PRESSURE, SEA_WATER, FreshWater, SeaWater, mackenzie_sound_speed,
-    pure_water_surface_tension, pure_water_vapour_pressure,
-    pure_water_viscosity, sea_water_surface_tension_ratio, sea_water_vapour_pressure_ratio,
-    sea_water_viscosity_ratio)
+from simunc.physics.fluids.base import Fluid
+from simunc.physics.fluids.water import (
+    FRESH_WATER,
+    MAX_PRESSURE,
+    SEA_WATER,
+    FreshWater,
+    SeaWater,
+    mackenzie_sound_speed,
+    pure_water_surface_tension,
+    pure_water_vapour_pressure,
+    pure_water_viscosity,
+    sea_water_surface_tension_ratio,
+    sea_water_vapour_pressure_ratio,
+    sea_water_viscosity_ratio,
+)
 
 P_ATM = 101_325.0
 T_GRID = np.arange(278.15, 308.16, 2.5)      # 5 .. 35 degC

@@ -5,6 +5,6 @@ temporary folder and moved into place, so a failed run never leaves a
 half-written report.
 """
 
-from .write import render_all, write_report
+from simunc.report.write import render_all, write_report
 
 __all__ = ["render_all", "write_report"]

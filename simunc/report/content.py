@@ -7,12 +7,12 @@ import platform
 import numpy as np
 import pandas as pd
 
-from .. import __version__
-from ..model import TARGETS, describe_output
-from ..units import DIMENSIONS
-from . import decisions
-from .blocks import Block, fmt, table as _table
-
+from simunc import __version__
+from simunc.report import decisions
+from simunc.report.blocks import Block, fmt
+from simunc.report.blocks import table as _table
+from simunc.spec.catalogue import TARGETS, describe_output
+from simunc.units import DIMENSIONS
 
 SAFETY = [
     "Pressurised facilities store a great deal of energy in the gas: run only inside the "

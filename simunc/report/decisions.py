@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import pandas as pd
 
-from ..requirements import LOOSEN, control_excursions
-from .blocks import Block, fmt, table
+from simunc.decisions.allocation import control_excursions
+from simunc.decisions.requirements import LOOSEN
+from simunc.report.blocks import Block, fmt, table
 
 
 def sensitivity_blocks(result) -> list[Block]:

@@ -6,7 +6,7 @@ import base64
 import html
 import re
 
-from .content import Block
+from simunc.report.content import Block
 
 _CSS = """
 body{font-family:system-ui,-apple-system,Segoe UI,sans-serif;max-width:1000px;margin:2em auto;

@@ -5,9 +5,9 @@ from __future__ import annotations
 import json
 import math
 
-from .. import __version__
-from ..model import TARGETS
-from ..units import DIMENSIONS
+from simunc import __version__
+from simunc.spec.catalogue import TARGETS
+from simunc.units import DIMENSIONS
 
 SCHEMA_VERSION = 1
 

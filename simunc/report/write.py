@@ -8,8 +8,8 @@ import shutil
 import tempfile
 from pathlib import Path
 
-from . import content, figures, render
-from .results_json import results_json
+from simunc.report import content, figures, render
+from simunc.report.results_json import results_json
 
 SAMPLE_FORMATS = ("csv", "parquet")
 #: Every file a report folder may hold; those a run does not write are removed (no stale files).
@@ -22,7 +22,7 @@ REPORT_PATTERNS = ("sweep_*.png",)
 
 def check_out_dir(out_dir) -> Path:
     """The report folder, refused (exit 2) when it is a file or cannot be a folder."""
-    from ..errors import StudyError
+    from simunc.errors import StudyError
 
     out = Path(out_dir)
     for p in (out, *out.parents):
@@ -75,7 +75,7 @@ def write_report(result, out_dir: str | os.PathLike, samples: str | None = None)
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        from ..errors import StudyError
+        from simunc.errors import StudyError
         raise StudyError("--out", str(out_dir), f"a folder simunc can create ({exc.strerror})") from exc
     tmp = Path(tempfile.mkdtemp(prefix=".simunc-", dir=out))
     try:

@@ -1,0 +1,1 @@
+"""Decisions on the one model: design sample, requirements, sweeps, tightening, allocation."""

@@ -1,0 +1,1 @@
+"""Physics: formulas only, no study (atmosphere, flow, groups, fluids)."""

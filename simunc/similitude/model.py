@@ -1,0 +1,255 @@
+"""The similitude model: one vectorized function from set point and deviations to outputs.
+
+Every analysis (nominal solve, Monte Carlo, Sobol, later sweeps and
+allocation) calls :meth:`SimilitudeModel.__call__` with a dict of floats or
+equal-length arrays and gets a dict of arrays back.  There is no other copy of
+the physics.
+
+Measurement model
+-----------------
+The operator brings the *indicated* values to the set point.  Then, for a
+quantity ``x`` with set point ``x_set``::
+
+    x_true = x_set - e_indication + e_control
+
+(an indication error ``e`` makes the instrument read ``x_true + e``; a control
+deviation is the flow's own wander about the setting).  With
+``mach_from = "pressure_ratio"`` the Mach number is inferred from the indicated
+stagnation and static pressures, so errors of both transducers move the true
+Mach number; ``mach_indication`` then stands for the test-section calibration.
+With ``mach_from = "indication"`` the Mach number has an instrument of its own
+and only the Mach targets move it.
+
+Facilities
+----------
+A *gas* facility is set by stagnation pressure, stagnation temperature and
+Mach number; the static state follows isentropically from the fluid model.  A
+*liquid* facility (water tunnel, towing tank) is set by speed, static pressure
+and temperature.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Mapping
+
+import numpy as np
+
+from simunc.constants import STANDARD_GRAVITY
+from simunc.physics import groups
+from simunc.physics.fluids import Fluid
+from simunc.spec.catalogue import GROUPS, TARGETS
+
+
+@dataclass(frozen=True)
+class SimilitudeModel:
+    """Scale model in a facility against its full-scale condition.
+
+    Parameters
+    ----------
+    fluid : Fluid
+        Facility working fluid; its ``kind`` ("gas" or "liquid") sets the
+        facility's set-point variables.
+    full_scale_fluid : Fluid
+        Fluid of the full-scale condition.
+    mach_from : {"pressure_ratio", "indication"}
+        How a gas facility's Mach number is obtained (see module docstring).
+    full_scale_given : {"mach", "speed"}
+        Whether ``full_scale_speed_or_mach`` is a Mach number (held when the
+        temperature varies) or a speed [m/s].
+    custom_groups : tuple of CustomGroup
+    """
+
+    fluid: Fluid
+    full_scale_fluid: Fluid
+    mach_from: str = "pressure_ratio"
+    full_scale_given: str = "mach"
+    custom_groups: tuple = field(default=())
+
+    @property
+    def kind(self) -> str:
+        return self.fluid.kind
+
+    def _fluid_params(self, fluid: Fluid, x, d) -> dict:
+        params = {}
+        for name in getattr(fluid, "parameters", ()):
+            if name in x:
+                dev = sum((d(t.name) for t in TARGETS.values() if t.parameter == name), 0.0)
+                params[name] = np.asarray(x[name], dtype=float) + dev
+        return params
+
+    def _facility(self, x, d) -> dict:
+        f = self.fluid
+        params = self._fluid_params(f, x, d)
+        if f.kind == "gas":
+            p0_set = np.asarray(x["stagnation_pressure"], dtype=float)
+            t0_set = np.asarray(x["stagnation_temperature"], dtype=float)
+            mach_set = np.asarray(x["mach"], dtype=float)
+            p0_ind = p0_set + d("stagnation_pressure_control")
+            p0 = p0_ind - d("stagnation_pressure_indication")
+            t0_ind = t0_set + d("stagnation_temperature_control")
+            t0 = t0_ind - d("stagnation_temperature_indication")
+            mach_dev = d("mach_control") - d("mach_indication")
+            if self.mach_from == "pressure_ratio":
+                p_ind = f.static_state(p0_ind, t0_ind, mach_set, **params)[0]
+                p_true = p_ind - d("static_pressure_indication")
+                mach = f.mach_from_pressures(p0, t0, p_true, **params) + mach_dev
+            else:
+                mach = mach_set + mach_dev
+            p, t = f.static_state(p0, t0, mach, **params)
+            a = f.speed_of_sound(p, t, **params)
+            speed = mach * a
+            rho = f.density(p, t, **params) * (1.0 + d("density_model"))
+        else:
+            speed = (np.asarray(x["speed"], dtype=float) - d("speed_indication")
+                     + d("speed_control"))
+            p = (np.asarray(x["static_pressure"], dtype=float) - d("static_pressure_indication")
+                 + d("static_pressure_control"))
+            t = (np.asarray(x["temperature"], dtype=float) - d("temperature_indication")
+                 + d("temperature_control"))
+            a = f.speed_of_sound(p, t, **params)
+            mach = speed / a
+            rho = f.density(p, t, **params) * (1.0 + d("density_model"))
+            p0 = p + 0.5 * rho * speed**2
+            t0 = t
+        mu = f.viscosity(p, t, **params) * (1.0 + d("viscosity_model"))
+        return {"fluid": f, "params": params, "p": p, "t": t, "p0": p0, "t0": t0, "rho": rho,
+                "a": a, "mu": mu, "speed": speed, "mach": mach}
+
+    def _full_scale(self, x, d, facility_params) -> dict:
+        fg = self.full_scale_fluid
+        params = {k: v for k, v in facility_params.items() if fg is self.fluid}
+        t = np.asarray(x["full_scale_static_temperature"], dtype=float) + d("full_scale_temperature")
+        p = np.asarray(x["full_scale_static_pressure"], dtype=float)
+        a = fg.speed_of_sound(p, t, **params)
+        given = np.asarray(x["full_scale_speed_or_mach"], dtype=float)
+        if self.full_scale_given == "mach":
+            mach = given + d("full_scale_mach") + d("full_scale_speed") / a
+            speed = mach * a
+        else:
+            speed = given + d("full_scale_speed") + d("full_scale_mach") * a
+            mach = groups.mach(speed, a)
+        return {"fluid": fg, "params": params, "p": p, "t": t, "rho": fg.density(p, t, **params),
+                "a": a, "mu": fg.viscosity(p, t, **params), "speed": speed, "mach": mach}
+
+    @staticmethod
+    def _groups(s: dict, length, frequency) -> dict:
+        f, params = s["fluid"], s["params"]
+        rho, u, mu, p, t = s["rho"], s["speed"], s["mu"], s["p"], s["t"]
+        g = {"reynolds": groups.reynolds(rho, u, length, mu), "mach": s["mach"],
+             "froude": u / np.sqrt(STANDARD_GRAVITY * length),
+             "euler": p / (rho * u**2)}
+        if frequency is not None:
+            g["strouhal"] = frequency * length / u
+        if hasattr(f, "specific_heat_cp") and hasattr(f, "thermal_conductivity"):
+            g["prandtl"] = mu * f.specific_heat_cp(p, t, **params) / f.thermal_conductivity(p, t, **params)
+        if f.kind == "gas":
+            g["isentropic_exponent"] = f.isentropic_exponent(p, t, **params)
+        else:
+            g["cavitation"] = (p - f.vapour_pressure(t)) / (0.5 * rho * u**2)
+            g["weber"] = rho * u**2 * length / f.surface_tension(t)
+        return g
+
+    @staticmethod
+    def _quantities(s: dict, length, frequency) -> dict:
+        return {"density": s["rho"], "speed": s["speed"], "length": length, "viscosity": s["mu"],
+                "kinematic_viscosity": s["mu"] / s["rho"], "static_pressure": s["p"],
+                "static_temperature": s["t"], "speed_of_sound": s["a"],
+                "dynamic_pressure": 0.5 * s["rho"] * s["speed"] ** 2, "gravity": STANDARD_GRAVITY,
+                "frequency": np.nan if frequency is None else frequency}
+
+    def __call__(self, x: Mapping[str, object]) -> dict[str, np.ndarray]:
+        """Evaluate the model.
+
+        Parameters
+        ----------
+        x : mapping
+            Set-point values (gas: ``stagnation_pressure``, ``stagnation_temperature``,
+            ``mach``; liquid: ``speed``, ``static_pressure``, ``temperature``), the
+            ``model_length``, the full-scale condition (``full_scale_static_pressure``,
+            ``full_scale_static_temperature``, ``full_scale_speed_or_mach``,
+            ``full_scale_length``), optionally ``frequency`` and
+            ``full_scale_frequency_nominal``, fluid parameters (e.g. ``sutherland``), and
+            any :data:`TARGETS` deviations (floats or arrays of one length, SI);
+            absent deviations are 0.
+
+        Returns
+        -------
+        dict of ndarray
+            Flow quantities of :data:`OUTPUTS` and, per group, ``<group>_model``,
+            ``<group>_full_scale`` and ``<group>_ratio`` (``mach_difference``
+            for the Mach number), broadcast to the common shape.
+        """
+        def d(name: str):
+            v = x.get(name)
+            return 0.0 if v is None else np.asarray(v, dtype=float)
+
+        fac = self._facility(x, d)
+        fs = self._full_scale(x, d, fac["params"])
+        length = np.asarray(x["model_length"], dtype=float) + d("model_reference_length")
+        fs_length = np.asarray(x["full_scale_length"], dtype=float)
+        freq = fs_freq = None
+        if x.get("frequency") is not None:
+            freq = np.asarray(x["frequency"], dtype=float) - d("frequency_indication")
+        if x.get("full_scale_frequency_nominal") is not None:
+            fs_freq = (np.asarray(x["full_scale_frequency_nominal"], dtype=float)
+                       + d("full_scale_frequency"))
+
+        out = {
+            "dynamic_pressure": 0.5 * fac["rho"] * fac["speed"] ** 2,
+            "speed": fac["speed"], "density": fac["rho"], "viscosity": fac["mu"],
+            "static_pressure": fac["p"], "static_temperature": fac["t"],
+            "stagnation_pressure": fac["p0"], "stagnation_temperature": fac["t0"],
+            "model_length": length, "full_scale_temperature": fs["t"],
+            "full_scale_speed": fs["speed"],
+        }
+        if freq is not None:
+            out["frequency"] = freq
+        if fs_freq is not None:
+            out["full_scale_frequency"] = fs_freq
+        for name, v in fac["params"].items():
+            out[name] = v
+        gm = self._groups(fac, length, freq if fs_freq is not None else None)
+        gf = self._groups(fs, fs_length, fs_freq if freq is not None else None)
+        for name in GROUPS:
+            if name in gm and name in gf:
+                out[f"{name}_model"], out[f"{name}_full_scale"] = gm[name], gf[name]
+                if GROUPS[name][1] == "difference":
+                    out[f"{name}_difference"] = gm[name] - gf[name]
+                else:
+                    out[f"{name}_ratio"] = gm[name] / gf[name]
+        if self.custom_groups:
+            qm = self._quantities(fac, length, freq)
+            qf = self._quantities(fs, fs_length, fs_freq)
+            for cg in self.custom_groups:
+                vm, vf = cg.evaluate(qm), cg.evaluate(qf)
+                out[f"{cg.name}_model"], out[f"{cg.name}_full_scale"] = vm, vf
+                out[f"{cg.name}_ratio"] = vm / vf
+        arrays = {k: np.asarray(v, dtype=float) for k, v in out.items()}
+        shape = np.broadcast_shapes(*(v.shape for v in arrays.values()))
+        return {k: np.broadcast_to(v, shape) for k, v in arrays.items()}
+
+
+def trial_problems(y, model) -> list[str]:
+    """Why some trials are not physical states (empty when all are).
+
+    Non-finite values, a length, pressure, temperature, density, viscosity or speed at or
+    below zero, and (with ``model``) a state outside its fluid model.
+    """
+    n = len(next(iter(y.values())))
+    bad = np.zeros(n, dtype=bool)
+    for v in y.values():
+        bad |= ~np.isfinite(v)
+    reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above "
+               "the stagnation pressure)"] if bad.any() else []
+    for key in ("model_length", "static_pressure", "static_temperature", "density",
+                "viscosity", "speed"):
+        if key in y:
+            neg = np.asarray(y[key]) <= 0.0
+            if neg.any():
+                reasons.append(f"{np.count_nonzero(neg)} with {key.replace('_', ' ')} <= 0")
+    if not reasons and model is not None:
+        why = model.fluid.check_state(y["static_pressure"], y["static_temperature"])
+        if why:
+            reasons.append(f"some outside the {model.fluid.name} model ({why})")
+    return reasons

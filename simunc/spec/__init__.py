@@ -1,0 +1,1 @@
+"""The study: schema, vocabulary, readers (TOML with units -> SI dataclasses)."""

@@ -1,0 +1,169 @@
+"""The study vocabulary: quantities an input can perturb, similarity groups, outputs.
+
+Names here are what a study writes (``perturbs``, ``[match.<group>]``, requirement outputs) and
+what the model reads and returns; the physics lives in :mod:`simunc.physics`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Mapping
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class Target:
+    """A quantity an uncertain input can perturb.
+
+    Attributes
+    ----------
+    name : str
+        Key used in studies (``perturbs = "..."``) and in the model's input dict.
+    dimension : str
+        Dimension of the input's size (see :data:`simunc.units.DIMENSIONS`).
+    reading : str or None
+        Nominal model output whose value a ``%``-of-reading size refers to;
+        ``None`` where the size is itself a fraction.
+    description : str
+        One line for reports.
+    modes : tuple of str
+        Facility kinds (``"gas"``, ``"liquid"``) where the target applies.
+    parameter : str or None
+        Fluid-model parameter the deviation is added to, if any.
+    """
+
+    name: str
+    dimension: str
+    reading: str | None
+    description: str
+    modes: tuple = ("gas", "liquid")
+    parameter: str | None = None
+
+
+_GAS = ("gas",)
+_LIQ = ("liquid",)
+
+TARGETS: dict[str, Target] = {t.name: t for t in (
+    Target("stagnation_pressure_indication", "pressure", "stagnation_pressure",
+           "stagnation-pressure transducer error (true = set - e)", _GAS),
+    Target("stagnation_pressure_control", "pressure", "stagnation_pressure",
+           "stagnation-pressure control deviation (true = set + e)", _GAS),
+    Target("stagnation_temperature_indication", "temperature_difference", "stagnation_temperature",
+           "stagnation-temperature sensor error (true = set - e)", _GAS),
+    Target("stagnation_temperature_control", "temperature_difference", "stagnation_temperature",
+           "stagnation-temperature control deviation (true = set + e)", _GAS),
+    Target("static_pressure_indication", "pressure", "static_pressure",
+           "static-pressure transducer error (gas: used for the Mach number; true = indicated - e)"),
+    Target("static_pressure_control", "pressure", "static_pressure",
+           "static-pressure control deviation of a liquid facility (true = set + e)", _LIQ),
+    Target("mach_indication", "dimensionless", "mach_model",
+           "Mach-number indication or calibration error (true = set - e)", _GAS),
+    Target("mach_control", "dimensionless", "mach_model",
+           "Mach-number control deviation (true = set + e)", _GAS),
+    Target("speed_indication", "speed", "speed",
+           "speed indication error of a liquid facility (true = set - e)", _LIQ),
+    Target("speed_control", "speed", "speed",
+           "speed control deviation of a liquid facility (true = set + e)", _LIQ),
+    Target("temperature_indication", "temperature_difference", "static_temperature",
+           "liquid temperature sensor error (true = set - e)", _LIQ),
+    Target("temperature_control", "temperature_difference", "static_temperature",
+           "liquid temperature deviation (true = set + e)", _LIQ),
+    Target("frequency_indication", "frequency", "frequency",
+           "model oscillation-frequency error (true = set - e)"),
+    Target("model_reference_length", "length", "model_length",
+           "model manufacturing deviation of the reference length (true = nominal + e)"),
+    Target("viscosity_model", "dimensionless", None,
+           "relative error of the viscosity model at the facility state (mu = mu_model (1 + e))"),
+    Target("density_model", "dimensionless", None,
+           "relative error of the density model at the facility state (rho = rho_model (1 + e))"),
+    Target("sutherland_constant", "temperature_difference", "sutherland",
+           "Sutherland-constant deviation of the facility gas (and of full scale when it is the "
+           "same gas)", _GAS, "sutherland"),
+    Target("water_vapour_fraction", "dimensionless", "vapour_mole_fraction",
+           "water-vapour mole fraction deviation of moist air", _GAS, "vapour_mole_fraction"),
+    Target("full_scale_temperature", "temperature_difference", "full_scale_temperature",
+           "full-scale static temperature deviation (offset from the stated condition)"),
+    Target("full_scale_speed", "speed", "full_scale_speed", "full-scale speed deviation"),
+    Target("full_scale_mach", "dimensionless", "mach_full_scale",
+           "full-scale Mach-number deviation"),
+    Target("full_scale_frequency", "frequency", "full_scale_frequency",
+           "full-scale frequency deviation"),
+)}
+
+#: Similarity groups the model computes: name -> (label, "ratio" or "difference").
+GROUPS: dict[str, tuple[str, str]] = {
+    "reynolds": ("Reynolds number rho U L / mu", "ratio"),
+    "mach": ("Mach number U / a", "difference"),
+    "froude": ("Froude number U / sqrt(g L)", "ratio"),
+    "strouhal": ("Strouhal number f L / U", "ratio"),
+    "weber": ("Weber number rho U^2 L / sigma", "ratio"),
+    "prandtl": ("Prandtl number mu cp / k", "ratio"),
+    "isentropic_exponent": ("ratio of specific heats (isentropic exponent)", "ratio"),
+    "euler": ("Euler number p / (rho U^2)", "ratio"),
+    "cavitation": ("cavitation number (p - p_v) / (rho U^2 / 2)", "ratio"),
+}
+
+#: Quantities a user-defined group may use, with their SI units.
+QUANTITIES: dict[str, str] = {
+    "density": "kg/m^3", "speed": "m/s", "length": "m", "viscosity": "Pa*s",
+    "kinematic_viscosity": "m^2/s", "static_pressure": "Pa", "static_temperature": "K",
+    "speed_of_sound": "m/s", "dynamic_pressure": "Pa", "gravity": "m/s^2", "frequency": "Hz",
+}
+
+
+@dataclass(frozen=True)
+class CustomGroup:
+    """A user-defined group: the product of named :data:`QUANTITIES` to given powers."""
+
+    name: str
+    powers: Mapping[str, float]
+
+    def evaluate(self, q: Mapping[str, np.ndarray]) -> np.ndarray:
+        out = 1.0
+        for k, e in self.powers.items():
+            out = out * np.asarray(q[k], dtype=float) ** e
+        return np.asarray(out, dtype=float)
+
+
+def output_key(group: str) -> str:
+    """The output compared with a group's tolerance band (ratio or difference)."""
+    kind = GROUPS[group][1] if group in GROUPS else "ratio"
+    return f"{group}_difference" if kind == "difference" else f"{group}_ratio"
+
+
+#: Output keys with their SI units and a label for reports (groups add their own three).
+OUTPUTS: dict[str, tuple[str, str]] = {
+    "dynamic_pressure": ("Pa", "facility dynamic pressure q"),
+    "speed": ("m/s", "facility speed U"),
+    "density": ("kg/m^3", "facility density rho"),
+    "viscosity": ("Pa s", "facility viscosity mu"),
+    "static_pressure": ("Pa", "facility static pressure p"),
+    "static_temperature": ("K", "facility static temperature T"),
+    "stagnation_pressure": ("Pa", "true stagnation pressure p0"),
+    "stagnation_temperature": ("K", "true stagnation temperature T0"),
+    "model_length": ("m", "true model reference length"),
+    "frequency": ("Hz", "model frequency"),
+    "full_scale_temperature": ("K", "full-scale static temperature"),
+    "full_scale_speed": ("m/s", "full-scale speed"),
+    "full_scale_frequency": ("Hz", "full-scale frequency"),
+    "sutherland": ("K", "Sutherland constant used"),
+    "vapour_mole_fraction": ("1", "water-vapour mole fraction"),
+}
+
+
+def describe_output(key: str) -> tuple[str, str]:
+    """SI unit and report label of an output key (flow quantities and group outputs).
+
+    >>> describe_output("reynolds_ratio")
+    ('1', 'Reynolds number rho U L / mu: model / full scale')
+    """
+    if key in OUTPUTS:
+        return OUTPUTS[key]
+    for suffix, text in (("_ratio", "model / full scale"), ("_difference", "model - full scale"),
+                         ("_full_scale", "full scale"), ("_model", "model")):
+        if key.endswith(suffix):
+            name = key[: -len(suffix)]
+            label = GROUPS[name][0] if name in GROUPS else f"user group {name}"
+            return "1", f"{label}: {text}"
+    return "", key

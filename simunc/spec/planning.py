@@ -1,0 +1,231 @@
+"""Study keys of the decision part: requirements, costs, sweeps, sensitivity options.
+
+Parsed once at load, like the rest of the study (:mod:`simunc.spec.readers`), into
+frozen dataclasses holding SI floats.  The analyses that use them live in
+:mod:`simunc.decisions.design` (tolerance sweeps, "control this more tightly") and
+:mod:`simunc.decisions.allocation` (the requirement solver and the allocation).
+
+A *tolerance scale* s of an input multiplies every drawn deviation of that
+input: its distribution keeps its shape and its standard uncertainty becomes
+s u.  Costs and grades are written against the expanded uncertainty U = 2 u
+(k = 2) of the input, the figure an instrument requirement states.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from simunc.errors import StudyError
+from simunc.spec.catalogue import TARGETS
+from simunc.spec.keys import (
+    COST_KEYS,
+    DESIGN_KEYS,
+    GRADE_KEYS,
+    REQUIREMENT_KEYS,
+    SENSITIVITY_KEYS,
+    SWEEP_KEYS,
+)
+from simunc.spec.schema import (
+    REQUIREMENT_KINDS,
+    UNCONTROLLED_TARGETS,
+    CostModel,
+    DesignSettings,
+    Requirement,
+    SensitivitySettings,
+    Sweep,
+)
+from simunc.spec.table import Table, check_finite
+from simunc.units import Parsed, parse
+
+
+def _fraction(t: Table, name: str, what: str) -> float:
+    return t.number(name, low=0.0, high=1.0, low_open=True, high_open=True, allow_percent=True,
+                    what=what)
+
+
+def requirement(data: Any, index: int, bands, outputs) -> Requirement:
+    """One ``[[requirement]]`` table (see the README)."""
+    t = Table(data, f"requirement[{index}]", REQUIREMENT_KEYS)
+    kind = t.exclusive(REQUIREMENT_KINDS)
+    groups = {b.group: b for b in bands}
+    if t.has("output") and t.has("group"):
+        raise StudyError(t.key("group"), t.data["group"], "either output or group, not both")
+    output = None
+    if t.has("group"):
+        g = t.choice("group", {k: k for k in groups})
+        output = groups[g].output
+    elif t.has("output"):
+        output = t.choice("output", {k: k for k in outputs})
+    note = t.text("note", "")
+    req = _requirement(t, kind, groups, output, note)
+    return req if not note else Requirement(req.key, req.kind, req.output, req.groups, req.limit,
+                                            req.relative, req.probability,
+                                            f"{req.text} ({note})", note)
+
+
+def _requirement(t: Table, kind: str, groups: dict, output, note: str) -> Requirement:
+    if kind == "conformity":
+        if t.has("output"):
+            raise StudyError(t.key("output"), t.data["output"], "group (a matched group) or "
+                             "nothing (every group) for a conformity requirement")
+        chosen = (t.data["group"],) if t.has("group") else tuple(groups)
+        if not chosen:
+            raise StudyError(t.key("conformity"), t.data["conformity"], "a study with [match] "
+                             "bands for a conformity requirement")
+        p = _fraction(t, "conformity", "a probability above 0 and below 1 such as '95 %'")
+        for k in ("within", "probability", "coverage_probability"):
+            if t.has(k):
+                raise StudyError(t.key(k), t.data[k], "no such key with conformity")
+        return Requirement(t.prefix, kind, None, chosen, 0.0, False, p,
+                           f"P({' and '.join(chosen)} in band) >= {t.data['conformity']}", note)
+    if output is None:
+        t.require("output", "the output (or group) the requirement is on")
+    nominal_zero = output.endswith("_difference")
+    raw = t.data[kind]
+    size = parse(t.key(kind), raw, _output_dimension(output), allow_relative=True)
+    if size.relative and nominal_zero:
+        raise StudyError(t.key(kind), raw, f"a plain number for {output} (its set-point value is "
+                         "zero, so a % of it means nothing)")
+    check_finite(t.key(kind), raw, size.value)
+    if size.value <= 0.0:
+        raise StudyError(t.key(kind), raw, "a limit greater than zero")
+    if kind == "expanded_uncertainty":
+        if t.has("probability"):
+            raise StudyError(t.key("probability"), t.data["probability"], "coverage_probability "
+                             "with expanded_uncertainty (probability goes with within)")
+        p = _fraction(t, "coverage_probability", "a probability above 0 and below 1") \
+            if t.has("coverage_probability") else None
+        text = f"U{'' if p is None else f'({p:g})'} of {output} <= {raw}"
+        return Requirement(t.prefix, kind, output, (), size.value, size.relative,
+                           -1.0 if p is None else p, text, note)
+    if t.has("coverage_probability"):
+        raise StudyError(t.key("coverage_probability"), t.data["coverage_probability"],
+                         "probability with within")
+    t.require("probability", "the probability that the output stays within the limit, e.g. '95 %'")
+    p = _fraction(t, "probability", "a probability above 0 and below 1 such as '95 %'")
+    return Requirement(t.prefix, kind, output, (), size.value, size.relative, p,
+                       f"P(|{output} - centre| <= {raw}) >= {t.data['probability']}", note)
+
+
+def _output_dimension(output: str) -> str:
+    from simunc.spec.catalogue import describe_output
+    from simunc.units import DIMENSIONS
+    unit = describe_output(output)[0]
+    for dim, (_, label, _) in DIMENSIONS.items():
+        if label == unit and dim != "temperature":  # a limit on a temperature is a difference
+            return dim
+    return "dimensionless"
+
+
+def cost_model(t: Table, targets: tuple) -> CostModel | None:
+    """``cost = {at_written, exponent}`` or ``grades = [{expanded_uncertainty, price}, ...]``."""
+    which = t.exclusive(("cost", "grades"), required=False)
+    if which is None:
+        return None
+    if which == "cost":
+        c = Table(t.data["cost"], t.key("cost"), COST_KEYS)
+        at = c.number("at_written", low=0.0, low_open=True, what="the cost (a number above 0) at "
+                      "the tolerance as written")
+        b = c.number("exponent", default=1.0, low=0.0, low_open=True,
+                     what="an exponent above 0 (cost grows as (U_written / U)^exponent)")
+        return CostModel("power", at, b, key=t.key("cost"))
+    raw = t.data["grades"]
+    if not isinstance(raw, list) or not raw:
+        raise StudyError(t.key("grades"), raw, "a non-empty list of {expanded_uncertainty, price} "
+                         "tables")
+    grades = []
+    for j, item in enumerate(raw):
+        g = Table(item, t.key(f"grades[{j}]"), GRADE_KEYS)
+        u = g.require("expanded_uncertainty", "U at k = 2 of this grade")
+        has_reading = any(TARGETS[x].reading is not None for x in targets)
+        size = parse(g.key("expanded_uncertainty"), u, TARGETS[targets[0]].dimension,
+                     allow_relative=has_reading)
+        if not has_reading:
+            size = Parsed(size.value, True)
+        check_finite(g.key("expanded_uncertainty"), u, size.value)
+        if size.value <= 0.0:
+            raise StudyError(g.key("expanded_uncertainty"), u, "an uncertainty greater than zero")
+        price = g.number("price", low=0.0, what="a price of zero or more")
+        grades.append((g.text("name", f"U = {u}"), size, price, str(u)))
+    return CostModel("grades", grades=tuple(grades), key=t.key("grades"))
+
+
+def controllable(t: Table, targets: tuple) -> bool:
+    """``controllable``: default false for conditions and property models, else true."""
+    return t.flag("controllable", not all(x in UNCONTROLLED_TARGETS for x in targets))
+
+
+def sweep(data: Any, index: int, names: list[str]) -> Sweep:
+    t = Table(data, f"sweep[{index}]", SWEEP_KEYS)
+    chosen = t.names("inputs")
+    if not 1 <= len(chosen) <= 2 or len(set(chosen)) != len(chosen):
+        raise StudyError(t.key("inputs"), list(chosen), "one or two different input names")
+    for j, n in enumerate(chosen):
+        if n not in names:
+            Table({f"inputs[{j}]": n}, t.prefix, (f"inputs[{j}]",)).choice(
+                f"inputs[{j}]", {k: k for k in names})
+    lo, hi = scale_range(t.key("scale"), t.data.get("scale", [0.1, 3.0]))
+    points = t.integer("points", 15 if len(chosen) == 1 else 11, 3)
+    if points > 200:
+        raise StudyError(t.key("points"), points, "at most 200 points per input")
+    spacing = t.choice("spacing", {"linear": "linear", "log": "log"}, default="linear")
+    if spacing == "log" and lo <= 0.0:
+        raise StudyError(t.key("scale"), [lo, hi], "a low scale above 0 with spacing = 'log'")
+    return Sweep(t.prefix, tuple(chosen), (lo, hi), points, spacing)
+
+
+def scale_range(key: str, raw: Any) -> tuple[float, float]:
+    """``[low, high]`` tolerance scales, 0 <= low < high (0 only for linear spacing)."""
+    ok = isinstance(raw, (list, tuple)) and len(raw) == 2 and all(
+        isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw)
+    if not ok or not (0.0 <= raw[0] < raw[1] <= 1000.0):
+        raise StudyError(key, raw, "two tolerance scales [low, high] with 0 <= low < high <= 1000, "
+                         "e.g. [0.1, 3]")
+    return float(raw[0]), float(raw[1])
+
+
+def sensitivity(data: Any, names: list[str]) -> SensitivitySettings:
+    t = Table(data, "sensitivity", SENSITIVITY_KEYS)
+    groups = {}
+    if t.has("groups"):
+        raw = t.data["groups"]
+        if not isinstance(raw, dict) or not raw:
+            raise StudyError(t.key("groups"), raw, "a table of group name = [input names]")
+        seen: dict[str, str] = {}
+        for g, members in raw.items():
+            key = f"{t.key('groups')}.{g}"
+            if not isinstance(members, list) or not members or \
+                    not all(isinstance(m, str) for m in members):
+                raise StudyError(key, members, "a non-empty list of input names")
+            for j, m in enumerate(members):
+                if m not in names:
+                    Table({f"{g}[{j}]": m}, t.key("groups"), (f"{g}[{j}]",)).choice(
+                        f"{g}[{j}]", {k: k for k in names})
+                if m in seen:
+                    raise StudyError(key, repr(m), f"each input in one group only (already in "
+                                     f"{seen[m]!r})")
+                seen[m] = g
+            groups[g] = tuple(members)
+    shapley = t.data.get("shapley", "auto")
+    if shapley not in ("auto", True, False):
+        raise StudyError(t.key("shapley"), shapley, "'auto' (when inputs are correlated), true or "
+                         "false")
+    return SensitivitySettings(t.flag("second_order", False), groups,
+                               {True: "yes", False: "no"}.get(shapley, "auto"))
+
+
+def design(data: Any) -> DesignSettings:
+    t = Table(data, "design", DESIGN_KEYS)
+    largest = t.number("largest_scale", default=100.0, low=1.0, high=1e4, low_open=True,
+                       what="a tolerance scale above 1 (how far the solver may loosen an input)")
+    return DesignSettings(t.integer("trials", 50_000, 1000),
+                          t.integer("verify_trials", 200_000, 1000), largest)
+
+
+def check_outputs(study, outputs) -> None:
+    """Refuse a requirement on an output this study's model does not form (at the set point)."""
+    for r in study.requirements:
+        if r.output is not None and r.output not in outputs:
+            key = r.key + (".group" if any(b.output == r.output for b in study.bands) else ".output")
+            raise StudyError(key, repr(r.output), "an output this study's model forms: " +
+                             ", ".join(sorted(k for k in outputs if not k.startswith("_"))))

@@ -1,0 +1,338 @@
+"""The study schema: frozen keyword-only dataclasses in SI, and the vocabulary of kinds.
+
+No TOML here: :mod:`simunc.spec.readers` and :mod:`simunc.spec.planning` build these objects
+from a study file.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from simunc.physics.fluids import AIR, Fluid
+from simunc.spec.catalogue import output_key
+from simunc.units import Parsed
+
+DISTRIBUTIONS = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
+                 "uniform": "rectangular", "triangular": "triangular",
+                 "trapezoidal": "trapezoidal", "trapezoid": "trapezoidal", "arcsine": "arcsine",
+                 "u_shaped": "arcsine", "truncated_normal": "truncated_normal",
+                 "lognormal": "lognormal"}
+#: Ways of writing the size of an input -> the distributions each accepts (the first is the
+#: default when ``distribution`` is not given).
+SIZE_DISTRIBUTIONS = {
+    "standard_uncertainty": ("normal", "rectangular", "triangular", "trapezoidal", "arcsine",
+                             "lognormal", "truncated_normal"),
+    "expanded_uncertainty": ("normal", "rectangular", "triangular", "trapezoidal", "arcsine"),
+    "half_width": ("rectangular", "triangular", "trapezoidal", "arcsine", "truncated_normal"),
+    "accuracy": ("rectangular", "triangular", "trapezoidal", "arcsine"),
+    "resolution": ("rectangular",),
+    "readings": ("normal",),
+    "type_a": ("normal",),
+}
+COMPONENTS = ("systematic", "random")
+MACH_FROM = ("pressure_ratio", "indication")
+
+#: ``match.solve_for`` names -> model keys, by facility kind.
+SOLVE_NAMES = {
+    "gas": {"stagnation_pressure": "stagnation_pressure",
+            "stagnation_temperature": "stagnation_temperature", "mach": "mach", "speed": "mach",
+            "model_scale": "model_length", "frequency": "frequency", "gas": "fluid",
+            "fluid": "fluid"},
+    "liquid": {"speed": "speed", "static_pressure": "static_pressure", "temperature": "temperature",
+               "model_scale": "model_length", "frequency": "frequency", "fluid": "fluid"},
+}
+#: Default priority of a matched group (lower is matched first).
+DEFAULT_PRIORITY = {"mach": 1, "froude": 1}
+SAMPLING = ("random", "lhs", "sobol")
+
+
+#: Targets that are conditions or property models, not facility instruments or controls: they
+#: are ranked apart and left as written by the allocation unless marked ``controllable = true``.
+UNCONTROLLED_TARGETS = ("full_scale_temperature", "full_scale_speed", "full_scale_mach",
+                        "full_scale_frequency", "viscosity_model", "density_model",
+                        "sutherland_constant")
+REQUIREMENT_KINDS = ("expanded_uncertainty", "within", "conformity")
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """One accuracy requirement of the test plan.
+
+    ``kind``:
+
+    * ``expanded_uncertainty``: U_p(y) <= ``limit`` (SI, or a fraction of the
+      nominal value when ``relative``), U_p the half-length of the
+      probabilistically symmetric coverage interval at ``probability``;
+    * ``within``: P(|y - centre| <= ``limit``) >= ``probability``;
+    * ``conformity``: P(every band of ``groups`` holds) >= ``probability``.
+    """
+
+    key: str
+    kind: str
+    output: str | None
+    groups: tuple
+    limit: float
+    relative: bool
+    probability: float
+    text: str
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class CostModel:
+    """Cost of an input's tolerance.
+
+    ``kind = "power"``: cost(U) = ``at_written`` (U_written / U)^``exponent``.
+    ``kind = "grades"``: a list of ``(name, U [Parsed, k = 2], price)``: one is chosen.
+    """
+
+    kind: str
+    at_written: float = 0.0
+    exponent: float = 1.0
+    grades: tuple = ()
+    key: str = ""
+
+
+@dataclass(frozen=True)
+class Sweep:
+    """A tolerance sweep of one or two inputs (scales from ``scale[0]`` to ``scale[1]``)."""
+
+    key: str
+    inputs: tuple
+    scale: tuple
+    points: int
+    spacing: str = "linear"
+
+
+@dataclass(frozen=True)
+class SensitivitySettings:
+    second_order: bool = False
+    groups: dict = field(default_factory=dict)
+    shapley: str = "auto"  # "auto" (when inputs are correlated), "yes", "no"
+
+
+@dataclass(frozen=True)
+class DesignSettings:
+    """Trials of the common-random-number sample and of the fresh verification run."""
+
+    trials: int = 50_000
+    verify_trials: int = 200_000
+    largest_scale: float = 100.0
+
+
+@dataclass(frozen=True)
+class FullScale:
+    """Full-scale condition in SI."""
+
+    static_pressure: float
+    static_temperature: float
+    given: str  # "mach" or "speed"
+    value: float
+    reference_length: float
+    altitude: float | None = None
+    temperature_offset: float = 0.0
+    mach: float = 0.0  # nominal full-scale Mach number (= value when given is "mach")
+    fluid: Fluid = AIR
+    frequency: float | None = None
+    frontal_area: float | None = None
+    depth: float | None = None
+
+
+@dataclass(frozen=True)
+class Facility:
+    """Facility description in SI (``None``: not given)."""
+
+    name: str
+    fluids: tuple
+    kind: str  # "gas" or "liquid"
+    stagnation_temperature: float | None = None
+    stagnation_temperature_range: tuple | None = None
+    stagnation_pressure: float | None = None
+    stagnation_pressure_range: tuple | None = None
+    mach: float | None = None
+    mach_range: tuple = (0.0, 1.0)
+    mach_from: str = "pressure_ratio"
+    speed: float | None = None
+    speed_range: tuple | None = None
+    static_pressure: float | None = None
+    static_pressure_range: tuple | None = None
+    temperature: float | None = None
+    temperature_range: tuple | None = None
+    max_model_reference_length: float | None = None
+    test_section_area: float | None = None
+    max_blockage: float | None = None
+    max_dynamic_pressure: float | None = None
+
+    @property
+    def gas(self) -> Fluid:
+        """The (first) working fluid."""
+        return self.fluids[0]
+
+
+@dataclass(frozen=True)
+class Band:
+    """Tolerance band of a matched group.
+
+    For a ``ratio`` group the band is ``|G_model / G_full - 1| <= tolerance``;
+    for the Mach number (a ``difference``) it is ``|Ma_model - Ma_full| <=
+    tolerance``.  ``priority`` orders the matching (1 first); ``solve = False``
+    makes the band a check only.
+    """
+
+    group: str
+    tolerance: float
+    text: str
+    priority: int = 2
+    solve: bool = True
+    target: float | None = None  # solver aim, default the centre (used by test planning)
+
+    @property
+    def output(self) -> str:
+        return output_key(self.group)
+
+    @property
+    def is_difference(self) -> bool:
+        return self.output.endswith("_difference")
+
+    @property
+    def centre(self) -> float:
+        return 0.0 if self.is_difference else 1.0
+
+
+@dataclass(frozen=True)
+class InputSpec:
+    """One uncertain input as written (sizes parsed, not yet tied to a set point).
+
+    :func:`simunc.similitude.inputs.build_inputs` resolves it at the solved set point: a
+    size with ``relative=True`` is a fraction of each target's reading there.
+
+    Attributes
+    ----------
+    name, key : str
+        Label, and the study key prefix (``uncertain[i]``) for messages.
+    target : str
+        The first (usually the only) :data:`~simunc.spec.catalogue.TARGETS` key it perturbs.
+    distribution : str
+        ``normal``, ``rectangular``, ``triangular``, ``trapezoidal``, ``arcsine``,
+        ``truncated_normal`` or ``lognormal``; ``normal`` with a finite ``dof`` is a
+        scaled and shifted t-distribution.
+    size_kind : str
+        How the size was written: ``standard_uncertainty``, ``expanded_uncertainty``,
+        ``half_width``, ``accuracy``, ``resolution`` or ``type_a`` (also for ``readings``).
+    size : Parsed
+        The size: u; U; the half-width a; the %-of-reading part of an accuracy
+        (its half-width is ``size + fixed``); the resolution (half-width = size / 2);
+        s / sqrt(n) of a Type A evaluation (the scale of the t-distribution).
+        For ``truncated_normal``: the standard deviation of the normal before truncation.
+    coverage_factor : float
+        k of an expanded uncertainty (computed from ``coverage_probability`` when
+        that was given); 1 otherwise.
+    text, note : str
+        The size as written (for reports), and the note.
+    targets : tuple of str
+        Every target, ``target`` first.  Filled with ``(target,)`` when not given.
+    component : str
+        ``systematic`` (fixed over a test) or ``random`` (changes from point to point).
+    dof : float
+        Degrees of freedom: of the t-distribution (``n - 1`` for Type A, the stated
+        value for an expanded uncertainty), ``inf`` otherwise.
+    beta : float or None
+        Trapezoid: ratio of the top to the bottom half-width.
+    limit : Parsed or None
+        Truncated normal: the half-width of the truncation.
+    fixed : float
+        Absolute part [SI] added to the size after the %-of-reading part is resolved
+        (accuracy: full_scale x range + absolute).
+    count : int or None
+        Number of readings of a Type A evaluation.
+    coverage_probability : float or None
+        As written with an expanded uncertainty.
+    """
+
+    name: str
+    target: str
+    distribution: str
+    size_kind: str
+    size: Parsed
+    coverage_factor: float
+    text: str
+    note: str
+    key: str
+    targets: tuple = ()
+    component: str = "systematic"
+    dof: float = math.inf
+    beta: float | None = None
+    limit: Parsed | None = None
+    fixed: float = 0.0
+    count: int | None = None
+    coverage_probability: float | None = None
+    controllable: bool = True
+    cost: object = None  # simunc.spec.schema.CostModel or None
+
+    def __post_init__(self) -> None:
+        if not self.targets:
+            object.__setattr__(self, "targets", (self.target,))
+
+
+@dataclass(frozen=True)
+class RunSettings:
+    """Monte Carlo settings: a fixed number of trials, or adaptive (``trials = None``)."""
+
+    trials: int | None = None
+    seed: int = 1
+    coverage_probability: float = 0.95
+    sobol_base_samples: int = 4096
+    sampling: str = "random"
+    significant_digits: int = 2
+    max_trials: int = 10_000_000
+
+    @property
+    def adaptive(self) -> bool:
+        return self.trials is None
+
+
+@dataclass(frozen=True)
+class DimensionalAnalysis:
+    """Variables (name -> unit text) for a Buckingham Pi analysis, and repeating ones."""
+
+    variables: dict
+    repeating: tuple | None
+    groups: tuple = ()
+
+
+@dataclass(frozen=True)
+class Study:
+    """A validated study, all values in SI."""
+
+    title: str
+    description: str
+    full_scale: FullScale
+    facility: Facility
+    model_scale: float | None
+    model_reference_length: float | None
+    solve_for: tuple
+    unknowns: tuple
+    bands: tuple
+    inputs: tuple
+    run: RunSettings
+    model_frequency: float | None = None
+    custom_groups: tuple = ()
+    dimensional_analysis: DimensionalAnalysis | None = None
+    #: None, or (input names in [[uncertain]] order, their correlation matrix): see
+    #: ``[correlations]`` in the README.
+    correlation: tuple | None = field(default=None, compare=False)
+    requirements: tuple = ()          # planning_spec.Requirement
+    sweeps: tuple = ()                # planning_spec.Sweep
+    sensitivity: SensitivitySettings = field(default_factory=SensitivitySettings)
+    design: DesignSettings = field(default_factory=DesignSettings)
+    path: str = ""
+    sha256: str = ""
+    raw: dict = field(default_factory=dict, repr=False, compare=False)
+
+    def band(self, group: str) -> Band | None:
+        return next((b for b in self.bands if b.group == group), None)
+
+    @property
+    def kind(self) -> str:
+        return self.facility.kind

@@ -1,0 +1,1 @@
+"""Generic uncertainty engines: they take a Problem and know nothing of facilities."""

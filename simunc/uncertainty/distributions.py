@@ -1,0 +1,98 @@
+"""Distributions of deviations as certificates and datasheets state them (GUM Type B).
+
+Frozen scipy.stats distributions of mean zero; see :mod:`simunc.similitude.inputs` for the
+table of conversions from a written size to a distribution.
+"""
+
+from __future__ import annotations
+
+import math
+
+from scipy import special, stats
+
+#: Standard uncertainty of a unit half-width, by distribution (trapezoidal: beta = 1 row of
+#: :func:`u_per_half_width`).
+_U_PER_HALF_WIDTH = {"rectangular": 1.0 / math.sqrt(3.0), "triangular": 1.0 / math.sqrt(6.0),
+                     "arcsine": 1.0 / math.sqrt(2.0)}
+#: Families bounded by +-half-width.
+BOUNDED = ("rectangular", "triangular", "trapezoidal", "arcsine", "truncated_normal")
+
+
+def u_per_half_width(kind: str, beta: float | None = None) -> float:
+    """Standard uncertainty of a distribution on [-1, 1] of the bounded families.
+
+    >>> round(u_per_half_width("trapezoidal", 0.5), 12) == round(math.sqrt(1.25 / 6), 12)
+    True
+    """
+    if kind == "trapezoidal":
+        return math.sqrt((1.0 + beta * beta) / 6.0)
+    return _U_PER_HALF_WIDTH[kind]
+
+
+def _bounded(kind: str, a: float, beta: float | None = None):
+    """Frozen distribution of mean 0 on [-a, a] (rectangular, triangular, trapezoidal, arcsine)."""
+    if kind == "rectangular":
+        return stats.uniform(loc=-a, scale=2.0 * a)
+    if kind == "triangular":
+        return stats.triang(c=0.5, loc=-a, scale=2.0 * a)
+    if kind == "trapezoidal":
+        return stats.trapezoid(0.5 * (1.0 - beta), 0.5 * (1.0 + beta), loc=-a, scale=2.0 * a)
+    if kind == "arcsine":
+        return stats.arcsine(loc=-a, scale=2.0 * a)
+    raise ValueError(f"not a bounded family: {kind}")
+
+
+def truncated_normal(sigma: float, limit: float):
+    """Normal N(0, sigma²) truncated to [-limit, limit] (frozen scipy.stats.truncnorm)."""
+    c = limit / sigma
+    return stats.truncnorm(-c, c, loc=0.0, scale=sigma)
+
+
+def truncated_normal_std(sigma: float, limit: float) -> float:
+    """Standard deviation of N(0, sigma²) truncated to [-limit, limit].
+
+    u² = sigma² (1 - 2 c phi(c) / (2 Phi(c) - 1)), c = limit / sigma (the moments of
+    the doubly truncated normal).
+
+    >>> round(truncated_normal_std(1.0, 50.0), 12)
+    1.0
+    """
+    c = limit / sigma
+    mass = float(special.erf(c / math.sqrt(2.0)))  # 2 Phi(c) - 1 without cancellation
+    phi = math.exp(-0.5 * c * c) / math.sqrt(2.0 * math.pi)
+    return sigma * math.sqrt(1.0 - 2.0 * c * phi / mass)
+
+
+def lognormal(u_relative: float, reading: float = 1.0):
+    """Deviation e = R (F - 1) of a multiplicative factor F with E[F] = 1, u(F) = u_relative.
+
+    ln F ~ N(-s²/2, s²), s² = ln(1 + u_relative²); e has mean 0, standard deviation
+    R u_relative and is bounded below by -R (the quantity stays positive).
+
+    >>> d = lognormal(0.1, 2.0)
+    >>> round(float(d.mean()), 12) + 0.0, round(float(d.std()), 12)
+    (0.0, 0.2)
+    """
+    s = math.sqrt(math.log1p(u_relative * u_relative))
+    return stats.lognorm(s, loc=-reading, scale=reading * math.exp(-0.5 * s * s))
+
+
+def make_distribution(kind: str, u: float, *, beta: float | None = None, dof: float = math.inf):
+    """Frozen scipy.stats distribution of mean 0 and standard deviation ``u``.
+
+    ``kind`` is ``normal``, ``t`` (with ``dof`` > 2), ``rectangular``, ``triangular``,
+    ``trapezoidal`` (with ``beta``), ``arcsine`` or ``lognormal`` (``u`` relative, about
+    a reading of 1).  A truncated normal is made by :func:`truncated_normal`.
+
+    >>> round(float(make_distribution("rectangular", 1.0).std()), 12)
+    1.0
+    >>> round(float(make_distribution("t", 1.0, dof=5).std()), 12)
+    1.0
+    """
+    if kind == "normal" and math.isinf(dof):
+        return stats.norm(loc=0.0, scale=u)
+    if kind in ("normal", "t"):
+        return stats.t(dof, loc=0.0, scale=u * math.sqrt((dof - 2.0) / dof))
+    if kind == "lognormal":
+        return lognormal(u)
+    return _bounded(kind, u / u_per_half_width(kind, beta), beta)

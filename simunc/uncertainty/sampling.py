@@ -1,0 +1,289 @@
+"""Sampling of the unit hypercube, Gaussian copula, and mapping through inverse CDFs.
+
+Samples are drawn on [0, 1)^d and mapped through each input's inverse
+cumulative distribution function (``ppf``), so that the same mapping serves
+pseudo-random Monte Carlo, Latin hypercube and Sobol sampling and the Sobol
+sample matrices of the sensitivity analysis.
+
+Blocks
+------
+The engine of :mod:`simunc.uncertainty.propagate` draws its trials in fixed-size blocks
+(:data:`BLOCK_SIZE`).  Block ``b`` has a generator of its own derived from the
+seed and ``b`` (:func:`block_generator`: ``SeedSequence`` spawning; block 0 is
+plain ``PCG64(seed)``), so a block's points depend only on the seed, the method and
+the block index -- never on how many blocks are drawn together.  Per method
+(:data:`METHODS`):
+
+* ``"random"``: ``Generator(block_generator(seed, b)).random((n, d))``;
+* ``"lhs"``: a Latin hypercube of the block's ``n`` points,
+  ``scipy.stats.qmc.LatinHypercube(d, rng=...)`` (each input's range cut into
+  ``n`` strata, one point in each, random positions);
+* ``"sobol"``: the first ``n`` points of a Sobol sequence scrambled afresh for
+  the block (``scipy.stats.qmc.Sobol(d, scramble=True, rng=...)``: linear
+  matrix scrambling and a digital shift); blocks are independent randomized
+  quasi-Monte Carlo replicates.  A block of ``2^m`` points is a scrambled
+  ``(t, m, d)``-net.
+
+Correlated inputs
+-----------------
+:func:`gaussian_copula` turns independent uniforms into uniforms with the
+dependence of a Gaussian copula of correlation matrix ``R``: ``z = ndtri(u)``,
+``z' = L z`` with ``R = L L^T`` (Cholesky), ``u' = ndtr(z')``.  Each ``z'_j``
+is standard normal (``R_jj = 1``), so each ``u'_j`` is uniform and every
+input keeps its marginal exactly.  The Pearson correlation of the normal
+scores is ``R``; that of two normal inputs is ``R``; the Spearman rank
+correlation of any two continuous inputs is ``(6 / pi) arcsin(R_ij / 2)``.
+
+References
+----------
+.. [1] M. D. McKay, R. J. Beckman, W. J. Conover, "A comparison of three
+   methods for selecting values of input variables in the analysis of output
+   from a computer code", Technometrics 21 (1979) 239-245.
+.. [2] I. M. Sobol', "On the distribution of points in a cube and the
+   approximate evaluation of integrals", USSR Comput. Math. Math. Phys. 7
+   (1967) 86-112; J. Matousek, "On the L2-discrepancy for anchored boxes",
+   J. Complexity 14 (1998) 527-556 (linear matrix scrambling).
+.. [3] R. B. Nelsen, An Introduction to Copulas, 2nd ed., Springer (2006),
+   5.1.2 (Spearman's rho of the Gaussian copula).
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+from scipy import special
+from scipy.stats import qmc
+
+#: Smallest distance from 0 and 1 kept before the inverse CDF (unbounded tails).
+_EPS = 1e-15
+
+
+#: Sampling methods on the unit hypercube.
+METHODS = ("random", "lhs", "sobol")
+#: Trials per block of the chunked engine (a power of two, for Sobol nets).
+BLOCK_SIZE = 2**16
+
+
+def unit_samples(n: int, d: int, seed: int) -> np.ndarray:
+    """``n`` by ``d`` pseudo-random points on [0, 1)^d (PCG64 seeded with ``seed``).
+
+    >>> unit_samples(3, 2, 7).shape
+    (3, 2)
+    """
+    return np.random.default_rng(seed).random((n, d))
+
+
+def _triang_ppf(q, c):
+    return np.where(q < c, np.sqrt(c * q), 1.0 - np.sqrt((1.0 - c) * (1.0 - q)))
+
+
+def _trapezoid_ppf(q, c, d):
+    # scipy.stats.trapezoid on [0, 1]: rises on [0, c], flat on [c, d], falls on [d, 1].
+    h = 1.0 + d - c  # 2 / (height of the top) = 1 + d - c
+    qc, qd = c / h, (2.0 * d - c) / h
+    return np.where(q < qc, np.sqrt(q * c * h),
+                    np.where(q <= qd, 0.5 * q * h + 0.5 * c,
+                             1.0 - np.sqrt((1.0 - q) * h * (1.0 - d))))
+
+
+def _arcsine_ppf(q):
+    return np.sin(0.5 * np.pi * q) ** 2
+
+
+def _truncnorm_ppf(q, a, b):
+    # Normal truncated to [a, b]: Phi^-1(Phi(a) + q (Phi(b) - Phi(a))), taken from the nearer
+    # tail (the upper half from 1 - q and the survival function) to keep the digits in the tails.
+    mass = np.where(a >= 0.0, special.ndtr(-a) - special.ndtr(-b), special.ndtr(b) - special.ndtr(a))
+    upper = q > 0.5
+    lower_x = special.ndtri(special.ndtr(a) + q * mass)
+    upper_x = -special.ndtri(special.ndtr(-b) + (1.0 - q) * mass)
+    return np.where(upper, upper_x, lower_x)
+
+
+#: Standard-form inverse CDFs of the scipy.stats families simunc assigns, called without the
+#: per-call argument checking of ``rv_frozen.ppf`` (the formulas of scipy's own ``_ppf``, or
+#: for the truncated normal a direct one; tests/test_sampling.py checks them against scipy).
+#: The t-distribution's cost is in ``stdtrit`` itself, which this path calls as scipy does.
+_FAST_PPF = {
+    "norm": lambda q: special.ndtri(q),
+    "uniform": lambda q: q,
+    "triang": _triang_ppf,
+    "trapezoid": _trapezoid_ppf,
+    "arcsine": _arcsine_ppf,
+    "truncnorm": _truncnorm_ppf,
+    "lognorm": lambda q, s: np.exp(s * special.ndtri(q)),
+    "t": lambda q, df: special.stdtrit(df, q),
+}
+
+
+def inverse_cdf(dist, q: np.ndarray) -> np.ndarray:
+    """Inverse CDF of a frozen scipy.stats distribution at probabilities ``q`` in (0, 1).
+
+    The families of :data:`_FAST_PPF` (normal, uniform, triangular, trapezoidal,
+    arcsine, truncated normal, lognormal, t) take a direct path; any other family
+    uses ``dist.ppf``.
+
+    >>> from scipy import stats
+    >>> float(inverse_cdf(stats.norm(2.0, 0.5), np.array([0.975]))[0]) == float(
+    ...     stats.norm(2.0, 0.5).ppf(0.975))
+    True
+    """
+    fast = _FAST_PPF.get(getattr(dist.dist, "name", ""))
+    if fast is None:
+        return dist.ppf(q)
+    shapes, loc, scale = dist.dist._parse_args(*dist.args, **dist.kwds)
+    return loc + scale * fast(q, *shapes)
+
+
+def map_to_inputs(u: np.ndarray, distributions) -> np.ndarray:
+    """Map unit samples (columns) through the distributions' inverse CDFs.
+
+    >>> from scipy import stats
+    >>> map_to_inputs(np.array([[0.5, 0.975]]), [stats.norm(0, 1), stats.norm(0, 1)]).round(2)
+    array([[0.  , 1.96]])
+    """
+    u = np.clip(u, _EPS, 1.0 - _EPS)
+    out = np.empty((u.shape[1], u.shape[0]))  # one contiguous row per input
+    for j, dist in enumerate(distributions):
+        out[j] = inverse_cdf(dist, u[:, j])
+    return out.T
+
+
+def block_generator(seed: int, block: int) -> np.random.PCG64:
+    """Bit generator of block ``block``, derived from the seed and the block index alone.
+
+    Block 0 is ``PCG64(seed)``, the generator of :func:`unit_samples` (so a run
+    of at most one block draws the trials of :func:`unit_samples`); block
+    ``b >= 1`` is ``PCG64(SeedSequence(seed, spawn_key=(b,)))``, the ``b``-th
+    child numpy's ``SeedSequence.spawn`` would give: streams hashed apart,
+    independent for any feasible run.  (A *jumped* PCG64 would not do: the
+    scipy.stats.qmc engines seed themselves from the generator's seed
+    sequence, which a jumped generator draws afresh.)
+
+    >>> bool(np.random.Generator(block_generator(7, 0)).random() == unit_samples(1, 1, 7)[0, 0])
+    True
+    >>> a = np.random.Generator(block_generator(7, 3)).random()
+    >>> bool(a == np.random.Generator(block_generator(7, 3)).random())
+    True
+    """
+    if int(seed) != seed or seed < 0:
+        raise ValueError(f"seed must be a non-negative integer, got {seed!r}")
+    if int(block) != block or block < 0:
+        raise ValueError(f"block must be a non-negative integer, got {block!r}")
+    if block == 0:
+        return np.random.PCG64(int(seed))
+    return np.random.PCG64(np.random.SeedSequence(int(seed), spawn_key=(int(block),)))
+
+
+def unit_block(method: str, n: int, d: int, seed: int, block: int = 0) -> np.ndarray:
+    """``n`` points of block ``block`` on [0, 1)^d by ``method`` (see :data:`METHODS`).
+
+    Parameters
+    ----------
+    method : {"random", "lhs", "sobol"}
+    n : int
+        Points in the block (the full block size, or fewer for a last, partial block).
+    d : int
+        Dimension.
+    seed, block : int
+        The block's generator is :func:`block_generator` ``(seed, block)``.
+
+    Returns
+    -------
+    ndarray, shape (n, d)
+
+    Examples
+    --------
+    A Latin hypercube puts one point in each of the ``n`` strata of every input:
+
+    >>> u = unit_block("lhs", 8, 3, seed=1, block=4)
+    >>> [sorted(np.floor(u[:, j] * 8).astype(int).tolist()) == list(range(8)) for j in range(3)]
+    [True, True, True]
+    >>> bool(np.array_equal(unit_block("sobol", 4, 2, 3, 5), unit_block("sobol", 4, 2, 3, 5)))
+    True
+    """
+    rng = np.random.Generator(block_generator(seed, block))
+    if method == "random":
+        return rng.random((n, d))
+    if method == "lhs":
+        return qmc.LatinHypercube(d, rng=rng).random(n)
+    if method == "sobol":
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")   # balance warning for n not a power of two
+            return qmc.Sobol(d, scramble=True, rng=rng).random(n)
+    raise ValueError(f"sampling method must be one of {METHODS}, got {method!r}")
+
+
+def correlation_factor(correlation, d: int) -> np.ndarray:
+    """Lower Cholesky factor ``L`` of a correlation matrix (``R = L L^T``), after checks.
+
+    Raises
+    ------
+    ValueError
+        When ``R`` is not ``d`` by ``d``, not symmetric, has a diagonal other
+        than 1, entries outside [-1, 1], or is not positive definite.
+
+    >>> correlation_factor([[1.0, 0.6], [0.6, 1.0]], 2).round(3)
+    array([[1. , 0. ],
+           [0.6, 0.8]])
+    """
+    r = np.asarray(correlation, dtype=float)
+    if r.shape != (d, d):
+        raise ValueError(f"correlation matrix must be {d} x {d} (one row per input), got {r.shape}")
+    if not np.all(np.isfinite(r)) or np.max(np.abs(r - r.T), initial=0.0) > 1e-12:
+        raise ValueError("correlation matrix must be finite and symmetric")
+    if np.max(np.abs(np.diag(r) - 1.0), initial=0.0) > 1e-12 or np.max(np.abs(r)) > 1.0 + 1e-12:
+        raise ValueError("correlation matrix must have a unit diagonal and entries in [-1, 1]")
+    try:
+        return np.linalg.cholesky(0.5 * (r + r.T))
+    except np.linalg.LinAlgError:
+        raise ValueError("correlation matrix must be positive definite") from None
+
+
+def gaussian_copula(u: np.ndarray, correlation) -> np.ndarray:
+    """Give independent uniforms the dependence of a Gaussian copula of correlation ``R``.
+
+    ``u' = ndtr(L ndtri(u))`` row by row, ``R = L L^T``; each column stays
+    uniform on (0, 1), so mapping ``u'`` through the inverse CDFs keeps every
+    marginal.  The products are written out input by input (no matrix
+    library call), so each trial's values do not depend on the number of rows.
+
+    Parameters
+    ----------
+    u : ndarray, shape (n, d)
+        Independent uniforms.
+    correlation : array_like, shape (d, d)
+        Correlation matrix R of the normal scores [1].
+
+    Returns
+    -------
+    ndarray, shape (n, d)
+
+    Examples
+    --------
+    >>> u = unit_samples(200_000, 2, 4)
+    >>> v = gaussian_copula(u, [[1.0, 0.8], [0.8, 1.0]])
+    >>> z = special.ndtri(v)
+    >>> round(float(np.corrcoef(z.T)[0, 1]), 2), round(float(v[:, 1].mean()), 2)
+    (0.8, 0.5)
+    """
+    u = np.asarray(u, dtype=float)
+    return copula_with_factor(u, correlation_factor(correlation, u.shape[1]))
+
+
+def copula_with_factor(u: np.ndarray, factor: np.ndarray) -> np.ndarray:
+    """:func:`gaussian_copula` with the Cholesky factor ``L`` already computed (and checked)."""
+    n, d = u.shape
+    z = special.ndtri(np.clip(np.ascontiguousarray(u.T), _EPS, 1.0 - _EPS))
+    out = np.empty_like(z)
+    tmp = np.empty(n)
+    for i in range(d):
+        row = out[i]
+        np.multiply(z[0], factor[i, 0], out=row)
+        for k in range(1, i + 1):
+            if factor[i, k] != 0.0:
+                np.multiply(z[k], factor[i, k], out=tmp)
+                row += tmp
+    special.ndtr(out, out=out)
+    return out.T

@@ -111,20 +111,9 @@ def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
     return Problem([i.name for i in inputs], [i.distribution for i in inputs], func)
 
 
-def inside_bands(y: dict[str, np.ndarray], study: Study) -> dict[str, np.ndarray]:
-    """Per matched group, which trials lie inside its tolerance band (and ``all``)."""
-    out, every = {}, None
-    for band in study.bands:
-        inside = np.abs(np.asarray(y[band.output]) - band.centre) <= band.tolerance
-        out[band.group] = inside
-        every = inside if every is None else every & inside
-    out["all"] = every if every is not None else np.ones(len(next(iter(y.values()))), dtype=bool)
-    return out
-
-
 def conformity(y: dict[str, np.ndarray], study: Study) -> dict[str, float]:
     """Probability that each matched group, and all together, lie inside their bands."""
-    return {g: float(np.mean(v)) for g, v in inside_bands(y, study).items()}
+    return {g: float(np.mean(v)) for g, v in study.inside(y).items()}
 
 
 def output_order(keys) -> list[str]:
@@ -194,7 +183,7 @@ class TrialMonitor:
             raise StudyError("uncertain", f"sizes that make trials non-physical ({'; '.join(reasons)}"
                              f" of a chunk of {n})", "input sizes small enough that every trial is "
                              "a physical state")
-        for group, inside in inside_bands(y, self.study).items():
+        for group, inside in self.study.inside(y).items():
             self.inside[group] += int(np.count_nonzero(inside))
         if self.model.kind == "gas":
             self.sonic += int(np.count_nonzero(np.asarray(y["mach_model"]) >= 1.0))

@@ -40,7 +40,7 @@ from simunc.decisions.sweeps import sweep
 from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
 from simunc.spec.readers import parse_study
-from simunc.spec.schema import Band, CostModel, DesignSettings, Requirement, RunSettings
+from simunc.spec.schema import Band, CostModel, DesignSettings, Requirement, RunSettings, Study
 from simunc.uncertainty.problem import Problem
 from simunc.units import Parsed
 
@@ -68,8 +68,8 @@ class FakeStudy:
     design: DesignSettings = field(default_factory=lambda: DesignSettings(60_000, 240_000, 100.0))
     run: RunSettings = field(default_factory=RunSettings)
 
-    def band(self, group):
-        return next((b for b in self.bands if b.group == group), None)
+    band = Study.band
+    inside = Study.inside
 
 
 def _problem():

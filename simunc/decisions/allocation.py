@@ -47,7 +47,7 @@ from scipy import optimize, special
 from simunc.decisions.requirements import (
     LOOSEN,
     SCREEN,
-    _limit,
+    limit_of,
     centre_of,
     half_length_se,
     margins,
@@ -209,7 +209,7 @@ class Surrogate:
                     / c.value if c.value > 0 else 0.0
             elif r.kind == "within":
                 lin = float(self.sigma(r.output, scale[None, :])[0])
-                self.ratio[r.key] = self._matched_ratio(r.output, _limit(r, st, sp), c.value, lin)
+                self.ratio[r.key] = self._matched_ratio(r.output, limit_of(r, st, sp), c.value, lin)
             else:
                 pred = float(self._conformity(r, scale[None, :], raw=True)[0])
                 self.joint[r.key] = c.value / pred if pred > 0 and np.isfinite(c.value) else 1.0
@@ -234,13 +234,13 @@ class Surrogate:
         cols = []
         for r in st.requirements:
             if r.kind == "expanded_uncertainty":
-                lim = _limit(r, st, sp)
+                lim = limit_of(r, st, sp)
                 U = self.kappa[r.key] * self.ratio[r.output] * self.sigma(r.output, scales)
                 cols.append(1.0 - U * (1.0 + self.slack.get(r.key, 0.0)) / lim)
             else:
                 need = r.probability + margins(n, st.design.verify_trials, r.probability)
                 if r.kind == "within":
-                    p = self._p_within(r.output, _limit(r, st, sp), scales, r.key)
+                    p = self._p_within(r.output, limit_of(r, st, sp), scales, r.key)
                 else:
                     p = self._conformity(r, scales)
                 cols.append((p - need) / (1.0 - r.probability))

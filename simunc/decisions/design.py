@@ -149,12 +149,8 @@ class Design:
             lo, hi = symmetric_interval(v, self.p) if u[k] > 0 else (float(v[0]), float(v[0]))
             half[k] = 0.5 * (hi - lo)
             mean[k] = float(np.mean(v))
-        conf, every = {}, np.ones(self.trials, dtype=bool)
-        for band in self.study.bands:
-            inside = np.abs(np.asarray(y[band.output]) - band.centre) <= band.tolerance
-            conf[band.group] = float(np.mean(inside)) if finite else np.nan
-            every &= inside
-        conf["all"] = float(np.mean(every)) if finite else np.nan
+        conf = {g: float(np.mean(v)) if finite else np.nan
+                for g, v in self.study.inside(y).items()}
         checks = check_all(self.study.requirements, y, self.study, self.setpoint, self.p,
                            trials=self.trials, margin=margin, finite=finite)
         fig = Figures(scale, u, U2, half, mean, conf, checks, finite, tuple(problems))

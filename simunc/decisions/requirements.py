@@ -70,7 +70,7 @@ def centre_of(output: str, study, setpoint) -> float:
     return float(setpoint.outputs[output])
 
 
-def _limit(req, study, setpoint) -> float:
+def limit_of(req, study, setpoint) -> float:
     if req.relative:
         return req.limit * abs(float(setpoint.outputs[req.output]))
     return req.limit
@@ -94,21 +94,17 @@ def check_all(requirements, y, study, setpoint, p: float, *, trials: int, margin
             v = np.asarray(y[r.output])
             pr = r.probability if r.probability > 0 else p
             lo, hi = symmetric_interval(v, pr)
-            value, limit = 0.5 * (hi - lo), _limit(r, study, setpoint)
+            value, limit = 0.5 * (hi - lo), limit_of(r, study, setpoint)
             slack = 3.0 * half_length_se(v, pr) * math.sqrt(1.0 + trials / nv) if margin else 0.0
             met = value <= limit - slack
         elif r.kind == "within":
             v = np.asarray(y[r.output])
             value = float(np.mean(np.abs(v - centre_of(r.output, study, setpoint))
-                                  <= _limit(r, study, setpoint)))
+                                  <= limit_of(r, study, setpoint)))
             limit = r.probability
             met = value >= limit + se(limit)
         else:
-            inside = np.ones(len(next(iter(y.values()))), dtype=bool)
-            for g in r.groups:
-                band = study.band(g)
-                inside &= np.abs(np.asarray(y[band.output]) - band.centre) <= band.tolerance
-            value, limit = float(np.mean(inside)), r.probability
+            value, limit = float(np.mean(study.inside(y, r.groups)["all"])), r.probability
             met = value >= limit + se(limit)
         out.append(Check(r.key, r.text, r.kind, float(value), float(limit), bool(met), r.output))
     return out

@@ -194,8 +194,8 @@ def _integer_vector(v: list[Fraction]) -> list[int]:
         lcm = lcm * x.denominator // math.gcd(lcm, x.denominator)
     ints = [int(x * lcm) for x in v]
     g = 0
-    for x in ints:
-        g = math.gcd(g, x)
+    for k in ints:
+        g = math.gcd(g, k)
     return [x // g for x in ints] if g > 1 else ints
 
 
@@ -321,7 +321,7 @@ def _format_power(p: Fraction | int | float) -> str:
     return str(p)
 
 
-def group_formula(powers: Mapping[str, object]) -> str:
+def group_formula(powers: Mapping[str, Fraction | int | float | str]) -> str:
     """Readable formula of a product of powers, e.g. ``"F rho^-1 V^-2 D^-2"``.
 
     Parameters
@@ -444,7 +444,7 @@ class PiGroup:
         """Plain ``{"name", "exponents", "formula"}`` dict (e.g. for JSON)."""
         return {"name": self.name, "exponents": dict(self.exponents), "formula": self.formula}
 
-    def evaluate(self, values: Mapping[str, object]):
+    def evaluate(self, values: Mapping[str, float | np.ndarray | pint.Quantity]):
         """Value of the group for given variable values.
 
         Parameters

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from simunc.similitude.model import SimilitudeModel
-from simunc.similitude.setpoint import SetPoint, _largest_model, nominal_state
+from simunc.similitude.setpoint import SetPoint, largest_model, nominal_state
 from simunc.spec.schema import Study
 
 _N_X = 61
@@ -116,7 +116,7 @@ def envelope(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> Envelo
     kind = "mach" if study.kind == "gas" else "froude"
     x, lo, hi = reynolds_band(study, model, length)
     bands = {f"model {length * 1e3:.1f} mm": (length, lo, hi)}
-    big = _largest_model(study)
+    big = largest_model(study)
     if big and big > length * (1 + 1e-9):
         _, lo2, hi2 = reynolds_band(study, model, big)
         bands[f"largest model {big * 1e3:.1f} mm"] = (big, lo2, hi2)

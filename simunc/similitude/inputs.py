@@ -59,7 +59,7 @@ from simunc.spec.catalogue import TARGETS
 from simunc.spec.schema import InputSpec
 from simunc.uncertainty.distributions import (
     BOUNDED,
-    _bounded,
+    bounded,
     lognormal,
     make_distribution,
     truncated_normal,
@@ -163,7 +163,7 @@ def assign(spec: InputSpec, reading: float | None):
         return dist, make_distribution(dist, size, beta=spec.beta), size, size
     if spec.size_kind == "resolution":
         a = 0.5 * size
-        return dist, _bounded(dist, a), a / math.sqrt(3.0), a / math.sqrt(3.0)
+        return dist, bounded(dist, a), a / math.sqrt(3.0), a / math.sqrt(3.0)
     if dist == "truncated_normal":
         limit = resolved_size(spec, reading, spec.limit)
         u = truncated_normal_std(size, limit)
@@ -181,7 +181,7 @@ def assign(spec: InputSpec, reading: float | None):
         return "t", stats.t(nu, loc=0.0, scale=size), size * math.sqrt(nu / (nu - 2.0)), size
     if spec.size_kind in ("half_width", "accuracy"):
         u = size * u_per_half_width(dist, spec.beta)
-        return dist, _bounded(dist, size, spec.beta), u, u
+        return dist, bounded(dist, size, spec.beta), u, u
     return dist, make_distribution(dist, size, beta=spec.beta), size, size  # u of the family
 
 

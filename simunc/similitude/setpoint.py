@@ -139,7 +139,7 @@ def _scalar(out: dict) -> dict:
     return {k: float(np.asarray(v)) for k, v in out.items()}
 
 
-def _largest_model(study: Study) -> float | None:
+def largest_model(study: Study) -> float | None:
     """Largest model reference length from the size limit and the blockage limit [m]."""
     fac, fs = study.facility, study.full_scale
     limits = [fac.max_model_reference_length] if fac.max_model_reference_length else []
@@ -166,7 +166,7 @@ def bounds(study: Study, key: str) -> tuple[float, float]:
     if key == "temperature":
         return fac.temperature_range or (274.0, 313.0)
     if key == "model_length":
-        return 1e-4 * fs.reference_length, _largest_model(study) or 10.0 * fs.reference_length
+        return 1e-4 * fs.reference_length, largest_model(study) or 10.0 * fs.reference_length
     if key == "frequency":
         return 1e-6, 1e6
     raise KeyError(key)
@@ -197,19 +197,15 @@ def nominal_state(study: Study, fluid=None) -> dict:
     return x
 
 
-def _band_residual(b: Band, out: dict) -> float:
-    """Mismatch of a group in tolerance bands: ln(ratio) / tol or difference / tol."""
-    y = float(np.asarray(out[b.output]))
-    aim = b.centre if b.target is None else b.target
-    if b.is_difference:
-        return (y - aim) / b.tolerance
-    return math.log(y / aim) / b.tolerance if y > 0.0 else math.inf
+def band_residual(b: Band, out: Mapping[str, np.ndarray]) -> float:
+    """Mismatch of a group at a (scalar) model output, in tolerance bands (:meth:`Band.residual`)."""
+    return b.residual(float(np.asarray(out[b.output])))
 
 
 def _residuals(model: SimilitudeModel, bands: list[Band], state: dict, q_max: float | None):
     out = model(state)
     levels = sorted({b.priority for b in bands})
-    r = [PRIORITY_WEIGHT ** (len(levels) - 1 - levels.index(b.priority)) * _band_residual(b, out)
+    r = [PRIORITY_WEIGHT ** (len(levels) - 1 - levels.index(b.priority)) * band_residual(b, out)
          for b in bands]
     if q_max is not None:
         q = float(np.asarray(out["dynamic_pressure"]))
@@ -291,7 +287,7 @@ def _limits(study: Study, state: dict, out: dict) -> list[Limit]:
         add("speed", fac.speed_range, state["speed"])
         add("static_pressure", fac.static_pressure_range, state["static_pressure"])
         add("temperature", fac.temperature_range, state["temperature"])
-    big = _largest_model(study)
+    big = largest_model(study)
     if big:
         lim.append(Limit("model_length", "max", big, state["model_length"], "m"))
     if fac.max_dynamic_pressure:
@@ -304,7 +300,7 @@ def _describe(sp_state, out, keys, bands, limits, required) -> tuple:
     msgs = []
     mismatch = {}
     for b in bands:
-        mismatch[b.group] = _band_residual(b, out)
+        mismatch[b.group] = band_residual(b, out)
     matched = all(abs(v) < MATCHED for v in mismatch.values())
     for lim in limits:
         if not lim.ok:
@@ -387,7 +383,7 @@ def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
                             if k == "mach" else study, k) for k in keys}
         try:
             free, free_out = _solve_one(model, base, keys, wide, bands, None)
-            ok = all(abs(_band_residual(b, free_out)) < MATCHED for b in bands)
+            ok = all(abs(band_residual(b, free_out)) < MATCHED for b in bands)
             required = {k: free[k] if ok else math.nan for k in keys}
         except (ValueError, FloatingPointError):
             required = {k: math.nan for k in keys}

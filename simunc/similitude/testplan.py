@@ -24,7 +24,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from simunc.similitude.model import SimilitudeModel
-from simunc.similitude.setpoint import MATCHED, SetPoint, _band_residual, solve_state
+from simunc.similitude.setpoint import MATCHED, SetPoint, band_residual, solve_state
 from simunc.spec.schema import Study
 
 #: Reynolds-number levels of the sweep (runs B), including the lowest and run A.
@@ -72,7 +72,7 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     primary = [b for b in study.bands if b.solve and b.priority == 1 and b.group != "reynolds"]
     name = primary[0].group.capitalize() if primary else ""
     if setpoint.feasible or re_band is None or not primary or all(
-            abs(_band_residual(b, setpoint.outputs)) < MATCHED for b in primary + [re_band]):
+            abs(band_residual(b, setpoint.outputs)) < MATCHED for b in primary + [re_band]):
         return TestPlan(primary[0].group if primary else "")
     keys = _keys(study)
     others = [b for b in study.bands if b.solve and b.group != "reynolds" and b not in primary]
@@ -106,7 +106,7 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     # C: Reynolds number matched first, the primary group as close as it gets.
     c_bands = [replace(re_band, priority=1)] + [replace(b, priority=2) for b in primary] + others
     c = run("C", f"Reynolds number matched, {name} as close as the facility allows", c_bands)
-    if abs(_band_residual(re_band, c.outputs)) < MATCHED:
+    if abs(band_residual(re_band, c.outputs)) < MATCHED:
         runs.append(c)
     else:
         notes.append("No set point inside the facility limits matches the Reynolds number at any "

@@ -7,7 +7,10 @@ from a study file.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+
+import numpy as np
 
 from simunc.physics.fluids import AIR, Fluid
 from simunc.spec.catalogue import output_key
@@ -199,6 +202,28 @@ class Band:
     def centre(self) -> float:
         return 0.0 if self.is_difference else 1.0
 
+    def inside(self, y: np.ndarray) -> np.ndarray:
+        """Which values of the band's output lie in the band: ``|y - centre| <= tolerance``.
+
+        >>> Band(group="reynolds", tolerance=0.02, text="2 %").inside(np.array([1.01, 1.03]))
+        array([ True, False])
+        """
+        return np.abs(np.asarray(y, dtype=float) - self.centre) <= self.tolerance
+
+    def residual(self, y: float) -> float:
+        """Mismatch of one value in tolerance bands, measured from the solver's aim.
+
+        ``(y - aim) / tolerance`` for a difference, ``ln(y / aim) / tolerance`` for a ratio
+        (``inf`` for a ratio at or below zero); the aim is ``target``, else the centre.
+
+        >>> round(Band(group="reynolds", tolerance=0.02, text="2 %").residual(1.01), 4)
+        0.4975
+        """
+        aim = self.centre if self.target is None else self.target
+        if self.is_difference:
+            return (y - aim) / self.tolerance
+        return math.log(y / aim) / self.tolerance if y > 0.0 else math.inf
+
 
 @dataclass(frozen=True)
 class InputSpec:
@@ -332,6 +357,19 @@ class Study:
 
     def band(self, group: str) -> Band | None:
         return next((b for b in self.bands if b.group == group), None)
+
+    def inside(self, y: Mapping[str, np.ndarray], groups: Sequence[str] | None = None
+               ) -> dict[str, np.ndarray]:
+        """Per matched group (or the ``groups`` named), which trials lie in its band; ``all``:
+        in every one of them."""
+        bands = self.bands if groups is None else tuple(self.band(g) for g in groups)
+        out: dict[str, np.ndarray] = {b.group: b.inside(y[b.output]) for b in bands}
+        n = len(next(iter(y.values())))
+        every = np.ones(n, dtype=bool)
+        for v in out.values():
+            every &= v
+        out["all"] = every
+        return out
 
     @property
     def kind(self) -> str:

@@ -29,7 +29,7 @@ def u_per_half_width(kind: str, beta: float | None = None) -> float:
     return _U_PER_HALF_WIDTH[kind]
 
 
-def _bounded(kind: str, a: float, beta: float | None = None):
+def bounded(kind: str, a: float, beta: float | None = None):
     """Frozen distribution of mean 0 on [-a, a] (rectangular, triangular, trapezoidal, arcsine)."""
     if kind == "rectangular":
         return stats.uniform(loc=-a, scale=2.0 * a)
@@ -95,4 +95,4 @@ def make_distribution(kind: str, u: float, *, beta: float | None = None, dof: fl
         return stats.t(dof, loc=0.0, scale=u * math.sqrt((dof - 2.0) / dof))
     if kind == "lognormal":
         return lognormal(u)
-    return _bounded(kind, u / u_per_half_width(kind, beta), beta)
+    return bounded(kind, u / u_per_half_width(kind, beta), beta)

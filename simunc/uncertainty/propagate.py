@@ -203,8 +203,8 @@ class AdaptiveInfo:
     batch_size: int
     batches: int
     converged: bool
-    tolerance: dict
-    reached: dict
+    tolerance: dict[str, float]
+    reached: dict[str, dict[str, float]]
 
     def achieved(self) -> dict[str, float]:
         """Largest of the four ``2 s`` values per output: the tolerance actually reached."""
@@ -235,7 +235,7 @@ class PropagationResult:
         For :func:`adaptive` runs.
     """
 
-    statistics: dict
+    statistics: dict[str, OutputStatistics]
     trials: int
     seed: int
     method: str
@@ -244,7 +244,7 @@ class PropagationResult:
     coverage_probability: float
     correlation: np.ndarray | None = None
     x: np.ndarray | None = field(default=None, repr=False)
-    y: dict | None = field(default=None, repr=False)
+    y: dict[str, np.ndarray] | None = field(default=None, repr=False)
     adaptive: AdaptiveInfo | None = None
 
     def __getitem__(self, output: str) -> OutputStatistics:
@@ -335,6 +335,7 @@ class _OutputAccumulator:
             s_low, s_high = shortest_interval(kept, p)
             bound = 0.0
         else:
+            assert self.hist is not None  # the trials are either kept or histogrammed
             low, high = self.hist.symmetric_interval(p)
             s_low, s_high = self.hist.shortest_interval(p)
             bound = 0.0 if self.minimum == self.maximum else self.hist.error_bound
@@ -452,7 +453,8 @@ def propagate(problem: Problem, trials: int, seed: int, *, method: str = "random
     else:
         per_chunk = max(1, int(chunk_size) // sampler.block_size)
     acc: dict[str, _OutputAccumulator] = {}
-    kept_x = kept_y = None
+    kept_x: np.ndarray | None = None
+    kept_y: dict[str, np.ndarray] | None = None
     ofs = 0
     for c in range(0, len(sizes), per_chunk):
         chunk_sizes = sizes[c:c + per_chunk]
@@ -466,13 +468,14 @@ def propagate(problem: Problem, trials: int, seed: int, *, method: str = "random
                 kept_y = {k: np.empty(trials) for k in y}
         n = x.shape[0]
         if keep:
+            assert kept_x is not None and kept_y is not None  # allocated with the first chunk
             kept_x[ofs:ofs + n] = x
             for k, v in y.items():
                 kept_y[k][ofs:ofs + n] = v
         for k, a in acc.items():
             a.add(y[k], chunk_sizes)
         ofs += n
-    stats = {k: a.finish(p, kept_y[k] if keep else None) for k, a in acc.items()}
+    stats = {k: a.finish(p, kept_y[k] if kept_y is not None else None) for k, a in acc.items()}
     return PropagationResult(stats, int(trials), int(seed), method, sampler.block_size,
                              min(per_chunk * sampler.block_size, int(trials)), p,
                              sampler.correlation, kept_x, kept_y)
@@ -561,7 +564,8 @@ def adaptive(problem: Problem, seed: int, *, n_digits: int = 2,
     a = 0.5 * (1.0 - p)
     acc: dict[str, _OutputAccumulator] = {}
     est: dict[str, np.ndarray] = {}
-    kept_x, kept_y = [], {}
+    kept_x: list[np.ndarray] = []
+    kept_y: dict[str, list[np.ndarray]] = {}
     converged = False
     h = 0
     tol: dict[str, float] = {}
@@ -601,12 +605,14 @@ def adaptive(problem: Problem, seed: int, *, n_digits: int = 2,
             converged = True
             break
     trials = h * m
+    x_all: np.ndarray | None
+    y_all: dict[str, np.ndarray] | None
     if keep:
         x_all = np.concatenate(kept_x)
         y_all = {k: np.concatenate(v) for k, v in kept_y.items()}
     else:
         x_all = y_all = None
-    stats = {k: acc_k.finish(p, y_all[k] if keep else None) for k, acc_k in acc.items()}
+    stats = {k: acc_k.finish(p, y_all[k] if y_all is not None else None) for k, acc_k in acc.items()}
     info = AdaptiveInfo(int(n_digits), m, h, converged, tol, reached)
     return PropagationResult(stats, trials, int(seed), method, m, m, p, sampler.correlation,
                              x_all, y_all, info)

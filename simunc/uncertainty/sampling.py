@@ -50,6 +50,8 @@ References
 from __future__ import annotations
 
 import warnings
+from collections.abc import Callable
+from typing import Any
 
 import numpy as np
 from scipy import special
@@ -105,7 +107,7 @@ def _truncnorm_ppf(q, a, b):
 #: per-call argument checking of ``rv_frozen.ppf`` (the formulas of scipy's own ``_ppf``, or
 #: for the truncated normal a direct one; tests/test_sampling.py checks them against scipy).
 #: The t-distribution's cost is in ``stdtrit`` itself, which this path calls as scipy does.
-_FAST_PPF = {
+_FAST_PPF: dict[str, Callable[..., np.ndarray]] = {
     "norm": lambda q: special.ndtri(q),
     "uniform": lambda q: q,
     "triang": _triang_ppf,
@@ -115,6 +117,26 @@ _FAST_PPF = {
     "lognorm": lambda q, s: np.exp(s * special.ndtri(q)),
     "t": lambda q, df: special.stdtrit(df, q),
 }
+
+
+def _shapes_loc_scale(dist: Any) -> tuple[tuple[Any, ...], Any, Any]:
+    """Shape parameters, ``loc`` and ``scale`` of a frozen continuous scipy.stats distribution.
+
+    Read from the frozen object's public ``args`` and ``kwds`` and the family's ``shapes``
+    names, bound as scipy binds them (the shapes in order, then ``loc`` and ``scale``, by
+    position or by keyword; ``loc`` 0 and ``scale`` 1 by default).  The values are passed on
+    unchanged.
+
+    >>> from scipy import stats
+    >>> _shapes_loc_scale(stats.truncnorm(-1.0, b=2.0, scale=3.0))
+    ((-1.0, 2.0), 0, 3.0)
+    >>> _shapes_loc_scale(stats.norm(1.5))
+    ((), 1.5, 1)
+    """
+    names = (dist.dist.shapes or "").replace(",", " ").split()
+    bound = dict(zip([*names, "loc", "scale"], dist.args))
+    bound.update(dist.kwds)
+    return tuple(bound[name] for name in names), bound.get("loc", 0), bound.get("scale", 1)
 
 
 def inverse_cdf(dist, q: np.ndarray) -> np.ndarray:
@@ -132,7 +154,7 @@ def inverse_cdf(dist, q: np.ndarray) -> np.ndarray:
     fast = _FAST_PPF.get(getattr(dist.dist, "name", ""))
     if fast is None:
         return dist.ppf(q)
-    shapes, loc, scale = dist.dist._parse_args(*dist.args, **dist.kwds)
+    shapes, loc, scale = _shapes_loc_scale(dist)
     return loc + scale * fast(q, *shapes)
 
 

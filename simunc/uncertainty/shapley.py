@@ -242,6 +242,8 @@ class _Copula:
     """The normal-score side of a problem: its correlation (None: independent)."""
 
     def __init__(self, correlation, d: int):
+        self.r: np.ndarray | None
+        self.factor: np.ndarray | None
         if correlation is None:
             self.r, self.factor = None, None
         else:
@@ -250,10 +252,13 @@ class _Copula:
             self.r = None if np.array_equal(r, np.eye(d)) else 0.5 * (r + r.T)
         self.d = d
 
-    def scores(self, rng: np.random.Generator, shape: tuple) -> np.ndarray:
+    def scores(self, rng: np.random.Generator, shape: tuple[int, ...]) -> np.ndarray:
         """Free draws ``Z ~ N(0, R)``, shape ``shape + (d,)``."""
         z = rng.standard_normal(shape + (self.d,))
-        return z if self.r is None else np.einsum("...k,jk->...j", z, self.factor)
+        if self.r is None:
+            return z
+        assert self.factor is not None  # computed whenever r is kept
+        return np.einsum("...k,jk->...j", z, self.factor)
 
 
 def _inner_var(y: np.ndarray) -> np.ndarray:
@@ -529,7 +534,7 @@ def shapley_effects(problem: Problem, outputs=None, correlation=None, *, seed: i
 
     z_level = float(special.ndtri(0.5 * (1.0 + confidence)))
     results: dict[str, dict[str, np.ndarray]] = {}
-    info = {"n_inner": n_inner, "n_variance": n_variance}
+    info: dict[str, int | str] = {"n_inner": n_inner, "n_variance": n_variance}
     if d and active:
         full = np.arange(2**d - 1, dtype=np.int64) + 1
         singles = 2 ** np.arange(d)

@@ -119,10 +119,10 @@ class SobolResult:
     seed : int
     """
 
-    first_total: dict
-    second_order: dict | None
-    groups: dict | None
-    group_members: dict | None
+    first_total: dict[str, pd.DataFrame]
+    second_order: dict[str, pd.DataFrame] | None
+    groups: dict[str, pd.DataFrame] | None
+    group_members: dict[str, tuple[str, ...]] | None
     evaluations: int
     base_samples: int
     num_resamples: int
@@ -380,6 +380,7 @@ def sobol_analysis(problem: Problem, outputs: Sequence[str], base_samples: int =
     multi = [g for g, m in (members or {}).items() if len(m) > 1]
     y_groups = None
     if multi:
+        assert members is not None  # multi lists groups of members
         masks = [np.isin(names, members[g]) for g in multi]
         x = _cross(base[:, :d], base[:, d:], masks).reshape(-1, d)
         y_groups = problem.evaluate_unit(x)
@@ -390,7 +391,9 @@ def sobol_analysis(problem: Problem, outputs: Sequence[str], base_samples: int =
     pairs = [(i, j) for i in range(d) for j in range(i + 1, d)]
     pair_index = pd.MultiIndex.from_tuples([(names[i], names[j]) for i, j in pairs],
                                            names=["input_a", "input_b"])
-    first, second, grouped = {}, {} if second_order else None, {} if members else None
+    first: dict[str, pd.DataFrame] = {}
+    second: dict[str, pd.DataFrame] | None = {} if second_order else None
+    grouped: dict[str, pd.DataFrame] | None = {} if members else None
     for name in outs:
         values = np.asarray(y[name], dtype=float).reshape(n, step)
         extra = None if y_groups is None else np.asarray(y_groups[name], dtype=float).reshape(n, -1)
@@ -403,13 +406,18 @@ def sobol_analysis(problem: Problem, outputs: Sequence[str], base_samples: int =
         ft = np.zeros((4, d)) if const else _first_total(cols, w, z)
         first[name] = _table(ft, pd.Index(names, name="input"), FIRST_TOTAL_COLUMNS)
         if second_order:
+            assert second is not None
             s2 = np.zeros((2, len(pairs))) if const or not pairs else _second(values, w, z, pairs)
             second[name] = _table(s2, pair_index, SECOND_ORDER_COLUMNS)
         if members:
+            assert grouped is not None
             block = []
             for g, m in members.items():
-                block.append(values[:, 1 + names.index(m[0])] if len(m) == 1
-                             else extra[:, multi.index(g)])
+                if len(m) == 1:
+                    block.append(values[:, 1 + names.index(m[0])])
+                else:
+                    assert extra is not None  # the groups of several inputs were evaluated
+                    block.append(extra[:, multi.index(g)])
             gcols = np.column_stack([values[:, 0], *block, values[:, -1]])
             gt = np.zeros((4, len(members))) if const else _first_total(gcols, w, z)
             grouped[name] = _table(gt, pd.Index(list(members), name="group"), FIRST_TOTAL_COLUMNS)

@@ -392,6 +392,7 @@ class ConformityCounter:
         if n is None:
             n = len(next(iter(y.values())))
             inside_all = np.ones(n, dtype=bool)
+        assert inside_all is not None  # set by the loop, or just above when there are no limits
         self.counts["all"] += int(np.count_nonzero(inside_all))
         self.trials += n
 
@@ -499,7 +500,7 @@ class PairwiseMoments:
     (10, 4.5, 9.166666666667)
     """
 
-    def __init__(self):
+    def __init__(self) -> None:
         self._stack: list[tuple[int, Moments]] = []
 
     def push(self, m: Moments) -> None:

@@ -273,7 +273,7 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
     inputs = build_inputs(study.inputs, setpoint)
     problem = similitude_problem(model, setpoint, inputs)
     monitor = TrialMonitor(study, model)
-    correlation = study.correlation[1] if study.correlation else None
+    correlation = study.correlation.matrix if study.correlation else None
     p = settings.coverage_probability
     if settings.adaptive:
         # Stop on the matched groups (JCGM 101, 7.9), then evaluate every output on the very same

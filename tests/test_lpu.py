@@ -24,9 +24,9 @@ import uncertainties
 from scipy import optimize, stats
 from uncertainties import umath
 
+from simunc.uncertainty.distributions import coverage_factor
 from simunc.uncertainty.lpu import (
     DEFAULT_STEP,
-    coverage_factor,
     lpu,
     numerical_tolerance,
     sensitivity_coefficients,

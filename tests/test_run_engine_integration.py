@@ -53,7 +53,7 @@ def test_correlated_transducers_against_gum_formula(study):
         c.append((problem.evaluate(hi)["mach_difference"][0] - problem.evaluate(lo)["mach_difference"][0])
                  / (2e-3 * u[j]))
     c = np.array(c)
-    names_c, r = study.correlation
+    names_c, r = study.correlation.names, study.correlation.matrix
     assert list(names_c) == names
     var = float(c @ (np.asarray(r) * np.outer(u, u)) @ c)
     result = simunc.run(study, trials=400_000, seed=5)

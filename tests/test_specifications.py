@@ -379,7 +379,7 @@ def test_no_correlations_is_none(base):
 
 def test_correlation_matrix(base):
     st = study_with(base, THREE, {"pairs": [["in2", "in0", 0.3], ["in0", "in1", -0.5]]})
-    names, r = st.correlation
+    names, r = st.correlation.names, st.correlation.matrix
     assert names == ("in0", "in1", "in2")
     np.testing.assert_array_equal(r, [[1.0, -0.5, 0.3], [-0.5, 1.0, 0.0], [0.3, 0.0, 1.0]])
     assert not r.flags.writeable

@@ -464,7 +464,7 @@ class PiGroup:
         >>> g.formula, g.evaluate({"V": 170.0, "a": 340.0})
         ('V a^-1', 0.5)
         """
-        out = 1.0
+        out: float | np.ndarray | pint.Quantity = 1.0
         for name, p in self.exponents.items():
             if name not in values:
                 raise ValueError(f"{self.name} = {self.formula} needs a value of '{name}'")

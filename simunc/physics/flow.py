@@ -1,9 +1,11 @@
-"""Isentropic relations of a perfect gas and the dynamic pressure.
+"""Isentropic relations of a perfect gas, the dynamic pressure and hydrostatics.
 
 References
 ----------
 .. [1] Ames Research Staff, *Equations, Tables, and Charts for Compressible
    Flow*, NACA Report 1135, 1953, eqs. 43-45 and Table I.
+.. [2] F. M. White, *Fluid Mechanics*, 7th ed., McGraw-Hill, 2011, eqs. 2.14
+   (hydrostatic pressure) and 3.54 (Bernoulli: stagnation pressure p + rho V^2 / 2).
 """
 
 from __future__ import annotations
@@ -96,3 +98,50 @@ def dynamic_pressure(p, mach, gamma=1.4):
     0.14753
     """
     return 0.5 * gamma * p * np.asarray(mach) ** 2
+
+
+def kinetic_pressure(density, speed):
+    """Dynamic pressure from density and speed ``q = rho V^2 / 2`` [Pa].
+
+    Parameters
+    ----------
+    density : array_like
+        Density rho [kg m^-3].
+    speed : array_like
+        Flow speed V [m s^-1].
+
+    Examples
+    --------
+    Sea-level air of the U.S. Standard Atmosphere 1976 (rho = 1.225 kg/m^3) at
+    40 m/s: q = 0.5 * 1.225 * 1600 = 980 Pa ([2], eq. 3.54).
+
+    >>> round(float(kinetic_pressure(1.225, 40.0)), 9)
+    980.0
+    """
+    return 0.5 * density * speed**2
+
+
+def hydrostatic_pressure(surface_pressure, density, depth, gravity):
+    """Pressure at a depth below a free surface ``p = p_s + rho g h`` [Pa] ([2], eq. 2.14).
+
+    Parameters
+    ----------
+    surface_pressure : array_like
+        Pressure at the free surface p_s [Pa].
+    density : array_like
+        Liquid density rho [kg m^-3] (taken constant over the depth).
+    depth : array_like
+        Depth h below the surface [m].
+    gravity : array_like
+        Acceleration of gravity g [m s^-2].
+
+    Examples
+    --------
+    10 m of fresh water (rho = 1000 kg/m^3) under the standard atmosphere
+    adds 98 066.5 Pa:
+
+    >>> float(hydrostatic_pressure(101_325.0, 1000.0, 10.0, 9.80665))
+    199391.5
+    """
+    return surface_pressure + density * gravity * depth
+

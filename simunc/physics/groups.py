@@ -210,7 +210,7 @@ def weber(density, speed, length, surface_tension):
     >>> round(weber(998.0, 5.0, 0.002, 0.0728), 1)
     685.4
     """
-    return density * speed * speed * length / surface_tension
+    return density * speed**2 * length / surface_tension
 
 
 def prandtl(viscosity, cp, conductivity):
@@ -269,7 +269,7 @@ def euler(pressure_difference, density, speed):
     >>> round(euler(12000.0, 998.0, 2.0), 3)
     3.006
     """
-    return pressure_difference / (density * speed * speed)
+    return pressure_difference / (density * speed**2)
 
 
 def pressure_coefficient(p, p_ref, density, speed):
@@ -332,4 +332,4 @@ def cavitation_number(p, p_vapour, density, speed):
     >>> round(cavitation_number(101325.0, 2337.0, 998.0, 10.0), 3)
     1.984
     """
-    return (p - p_vapour) / (0.5 * density * speed * speed)
+    return (p - p_vapour) / (0.5 * density * speed**2)

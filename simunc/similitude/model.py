@@ -36,7 +36,7 @@ from typing import Mapping
 import numpy as np
 
 from simunc.constants import STANDARD_GRAVITY
-from simunc.physics import groups
+from simunc.physics import flow, groups
 from simunc.physics.fluids import Fluid
 from simunc.spec.catalogue import GROUPS, TARGETS
 
@@ -110,7 +110,7 @@ class SimilitudeModel:
             a = f.speed_of_sound(p, t, **params)
             mach = speed / a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
-            p0 = p + 0.5 * rho * speed**2
+            p0 = p + flow.kinetic_pressure(rho, speed)
             t0 = t
         mu = f.viscosity(p, t, **params) * (1.0 + d("viscosity_model"))
         return {"fluid": f, "params": params, "p": p, "t": t, "p0": p0, "t0": t0, "rho": rho,
@@ -137,17 +137,18 @@ class SimilitudeModel:
         f, params = s["fluid"], s["params"]
         rho, u, mu, p, t = s["rho"], s["speed"], s["mu"], s["p"], s["t"]
         g = {"reynolds": groups.reynolds(rho, u, length, mu), "mach": s["mach"],
-             "froude": u / np.sqrt(STANDARD_GRAVITY * length),
-             "euler": p / (rho * u**2)}
+             "froude": groups.froude(u, length, STANDARD_GRAVITY),
+             "euler": groups.euler(p, rho, u)}
         if frequency is not None:
-            g["strouhal"] = frequency * length / u
+            g["strouhal"] = groups.strouhal(frequency, length, u)
         if hasattr(f, "specific_heat_cp") and hasattr(f, "thermal_conductivity"):
-            g["prandtl"] = mu * f.specific_heat_cp(p, t, **params) / f.thermal_conductivity(p, t, **params)
+            g["prandtl"] = groups.prandtl(mu, f.specific_heat_cp(p, t, **params),
+                                          f.thermal_conductivity(p, t, **params))
         if f.kind == "gas":
             g["isentropic_exponent"] = f.isentropic_exponent(p, t, **params)
         else:
-            g["cavitation"] = (p - f.vapour_pressure(t)) / (0.5 * rho * u**2)
-            g["weber"] = rho * u**2 * length / f.surface_tension(t)
+            g["cavitation"] = groups.cavitation_number(p, f.vapour_pressure(t), rho, u)
+            g["weber"] = groups.weber(rho, u, length, f.surface_tension(t))
         return g
 
     @staticmethod
@@ -155,7 +156,7 @@ class SimilitudeModel:
         return {"density": s["rho"], "speed": s["speed"], "length": length, "viscosity": s["mu"],
                 "kinematic_viscosity": s["mu"] / s["rho"], "static_pressure": s["p"],
                 "static_temperature": s["t"], "speed_of_sound": s["a"],
-                "dynamic_pressure": 0.5 * s["rho"] * s["speed"] ** 2, "gravity": STANDARD_GRAVITY,
+                "dynamic_pressure": flow.kinetic_pressure(s["rho"], s["speed"]), "gravity": STANDARD_GRAVITY,
                 "frequency": np.nan if frequency is None else frequency}
 
     def __call__(self, x: Mapping[str, object]) -> dict[str, np.ndarray]:
@@ -196,7 +197,7 @@ class SimilitudeModel:
                        + d("full_scale_frequency"))
 
         out = {
-            "dynamic_pressure": 0.5 * fac["rho"] * fac["speed"] ** 2,
+            "dynamic_pressure": flow.kinetic_pressure(fac["rho"], fac["speed"]),
             "speed": fac["speed"], "density": fac["rho"], "viscosity": fac["mu"],
             "static_pressure": fac["p"], "static_temperature": fac["t"],
             "stagnation_pressure": fac["p0"], "stagnation_temperature": fac["t0"],

@@ -23,6 +23,7 @@ is an inequality held by a penalty and a final projection.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 
 import numpy as np

@@ -20,7 +20,9 @@ import numpy as np
 
 from simunc.constants import STANDARD_PRESSURE, STANDARD_GRAVITY
 from simunc.errors import StudyError
-from simunc.physics import atmosphere
+from simunc.physics import atmosphere, flow, groups
+from simunc.uncertainty.correlation import Correlation
+from simunc.uncertainty.distributions import coverage_factor, make_distribution
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.spec import planning as planning_spec
 from simunc.spec.catalogue import (
@@ -93,7 +95,7 @@ def _full_scale(t: Table) -> FullScale:
             pres = t.quantity("static_pressure", "pressure")
         else:
             rho = float(fluid.density(STANDARD_PRESSURE, temp))
-            pres = STANDARD_PRESSURE + rho * STANDARD_GRAVITY * (depth or 0.0)
+            pres = flow.hydrostatic_pressure(STANDARD_PRESSURE, rho, depth or 0.0, STANDARD_GRAVITY)
     else:
         kind = t.exclusive(("altitude", "pressure_altitude", "static_pressure"))
         if t.has("depth"):
@@ -143,7 +145,7 @@ def _full_scale(t: Table) -> FullScale:
                                   "are implemented)")
     else:
         value = t.quantity("speed", "speed")
-        m = value / float(fluid.speed_of_sound(pres, temp))
+        m = float(groups.mach(value, fluid.speed_of_sound(pres, temp)))
         if m >= 1.0:
             raise StudyError(t.key("speed"), t.data["speed"],
                              f"a subsonic speed (this gives Mach {m:.3f}; only subsonic relations "
@@ -335,15 +337,10 @@ def _coverage_factor(t: Table, dist: str, beta: float | None) -> tuple[float, fl
     if not bounded and not t.has("degrees_of_freedom"):
         t.require("degrees_of_freedom", "with coverage_probability: the effective degrees of "
                   "freedom of the certificate, or 'inf' for a normal distribution")
-    from scipy import special
-
-    from simunc.uncertainty.distributions import make_distribution
-
-    q = 0.5 * (1.0 + p)
     if bounded:
-        k = float(make_distribution(dist, 1.0, beta=beta).ppf(q))
+        k = float(make_distribution(dist, 1.0, beta=beta).ppf(0.5 * (1.0 + p)))
     else:
-        k = float(special.ndtri(q)) if math.isinf(nu) else float(special.stdtrit(nu, q))
+        k = float(coverage_factor(p, nu))
     return k, nu, p
 
 
@@ -535,8 +532,8 @@ def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> Inpu
                      cost=planning_spec.cost_model(t, targets))
 
 
-def _correlations(data: Any, names: list[str]) -> tuple | None:
-    """``[correlations] pairs = [[a, b, r], ...]`` -> (names, full correlation matrix) or None.
+def _correlations(data: Any, names: list[str]) -> Correlation | None:
+    """``[correlations] pairs = [[a, b, r], ...]`` -> the correlation of every input, or None.
 
     Unlisted pairs are uncorrelated.  The matrix must be positive definite (a
     coefficient of +-1 makes it singular: a fully shared error is one input with
@@ -578,14 +575,18 @@ def _correlations(data: Any, names: list[str]) -> tuple | None:
         seen[pair] = j
         i1, i2 = names.index(a), names.index(b)
         matrix[i1, i2] = matrix[i2, i1] = float(r)
-    smallest = float(np.linalg.eigvalsh(matrix)[0])
-    if smallest <= 1e-10:
+    expected = ("a positive-definite correlation matrix (the coefficients contradict each other, "
+                "or one is +-1: for an error shared by several quantities use one input with a "
+                "list in perturbs)")
+    try:
+        corr = Correlation(tuple(names), matrix)
+    except ValueError as exc:  # entries are checked above: only the eigenvalues can fail
+        raise StudyError("correlations", f"pairs giving a matrix that is not positive "
+                         f"semi-definite ({exc})", expected) from exc
+    if not corr.definite:
         raise StudyError("correlations", f"pairs giving a matrix with smallest eigenvalue "
-                         f"{smallest:.3g}", "a positive-definite correlation matrix (the "
-                         "coefficients contradict each other, or one is +-1: for an error shared "
-                         "by several quantities use one input with a list in perturbs)")
-    matrix.setflags(write=False)
-    return tuple(names), matrix
+                         f"{corr.smallest_eigenvalue:.3g}", expected)
+    return corr
 
 
 def _band(bt: Table, group: str, fs: FullScale) -> Band:

@@ -14,6 +14,7 @@ import numpy as np
 
 from simunc.physics.fluids import AIR, Fluid
 from simunc.spec.catalogue import output_key
+from simunc.uncertainty.correlation import Correlation
 from simunc.units import Parsed
 
 DISTRIBUTIONS = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
@@ -344,9 +345,8 @@ class Study:
     model_frequency: float | None = None
     custom_groups: tuple = ()
     dimensional_analysis: DimensionalAnalysis | None = None
-    #: None, or (input names in [[uncertain]] order, their correlation matrix): see
-    #: ``[correlations]`` in the README.
-    correlation: tuple | None = field(default=None, compare=False)
+    #: None, or the correlation of the inputs, in [[uncertain]] order (``[correlations]``).
+    correlation: Correlation | None = field(default=None, compare=False)
     requirements: tuple = ()          # planning_spec.Requirement
     sweeps: tuple = ()                # planning_spec.Sweep
     sensitivity: SensitivitySettings = field(default_factory=SensitivitySettings)

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 from scipy import special, stats
 
 #: Standard uncertainty of a unit half-width, by distribution (trapezoidal: beta = 1 row of
@@ -96,3 +97,52 @@ def make_distribution(kind: str, u: float, *, beta: float | None = None, dof: fl
     if kind == "lognormal":
         return lognormal(u)
     return bounded(kind, u / u_per_half_width(kind, beta), beta)
+
+
+def coverage_factor(coverage_probability: float = 0.95, dof=math.inf,
+                    truncate_dof: bool = False):
+    """Coverage factor k_p for a coverage probability p [-].
+
+    ``k_p = z_{(1+p)/2}`` (standard normal quantile) for infinite degrees of
+    freedom, else ``k_p = t_{(1+p)/2}(nu)`` (Student t quantile), JCGM 100:2008,
+    G.3.2 and G.4.1.  With ``truncate_dof`` the degrees of freedom are first
+    truncated to the next lower integer, as JCGM 100:2008 G.4.1 allows for use
+    with its Table G.2; otherwise non-integer ``nu`` is used as it stands.
+
+    Parameters
+    ----------
+    coverage_probability : float
+        p in (0, 1).
+    dof : float or array_like
+        Degrees of freedom nu (``inf`` for the normal distribution).
+    truncate_dof : bool
+        Truncate finite ``nu`` to an integer before taking the quantile.
+
+    Returns
+    -------
+    float or ndarray
+        k_p [-], of the shape of ``dof``.
+
+    Examples
+    --------
+    >>> round(coverage_factor(0.95), 2)        # normal, JCGM 100:2008 G.1.3
+    1.96
+    >>> round(coverage_factor(0.99, 16.7, truncate_dof=True), 2)   # t_99(16)
+    2.92
+    >>> round(coverage_factor(0.95, 10), 2)    # t_95(10)
+    2.23
+    """
+    p = float(coverage_probability)
+    if not 0.0 < p < 1.0:
+        raise ValueError(f"coverage probability must lie in (0, 1), got {p}")
+    nu = np.asarray(dof, dtype=float)
+    if np.any(~(nu > 0)):
+        raise ValueError("degrees of freedom must be positive (inf for a known standard uncertainty)")
+    finite = np.isfinite(nu)
+    if truncate_dof:
+        nu = np.where(finite, np.floor(nu), nu)
+        if np.any(nu < 1):
+            raise ValueError("truncated degrees of freedom below 1")
+    q = 0.5 * (1.0 + p)
+    k = np.where(finite, stats.t.ppf(q, np.where(finite, nu, 1.0)), stats.norm.ppf(q))
+    return float(k) if k.ndim == 0 else k

@@ -48,8 +48,9 @@ from typing import Mapping, Sequence
 import numpy as np
 import pandas as pd
 import uncertainties
-from scipy import stats
 
+from simunc.uncertainty.distributions import coverage_factor
+from simunc.uncertainty.correlation import Correlation
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.statistics import numerical_tolerance
 
@@ -63,55 +64,6 @@ _BUDGET_COLUMNS = ["kind", "sensitivity", "standard_uncertainty", "correlation",
 # ---------------------------------------------------------------------------
 # Small building blocks
 # ---------------------------------------------------------------------------
-def coverage_factor(coverage_probability: float = 0.95, dof=math.inf,
-                    truncate_dof: bool = False):
-    """Coverage factor k_p for a coverage probability p [-].
-
-    ``k_p = z_{(1+p)/2}`` (standard normal quantile) for infinite degrees of
-    freedom, else ``k_p = t_{(1+p)/2}(nu)`` (Student t quantile), JCGM 100:2008,
-    G.3.2 and G.4.1.  With ``truncate_dof`` the degrees of freedom are first
-    truncated to the next lower integer, as JCGM 100:2008 G.4.1 allows for use
-    with its Table G.2; otherwise non-integer ``nu`` is used as it stands.
-
-    Parameters
-    ----------
-    coverage_probability : float
-        p in (0, 1).
-    dof : float or array_like
-        Degrees of freedom nu (``inf`` for the normal distribution).
-    truncate_dof : bool
-        Truncate finite ``nu`` to an integer before taking the quantile.
-
-    Returns
-    -------
-    float or ndarray
-        k_p [-], of the shape of ``dof``.
-
-    Examples
-    --------
-    >>> round(coverage_factor(0.95), 2)        # normal, JCGM 100:2008 G.1.3
-    1.96
-    >>> round(coverage_factor(0.99, 16.7, truncate_dof=True), 2)   # t_99(16)
-    2.92
-    >>> round(coverage_factor(0.95, 10), 2)    # t_95(10)
-    2.23
-    """
-    p = float(coverage_probability)
-    if not 0.0 < p < 1.0:
-        raise ValueError(f"coverage probability must lie in (0, 1), got {p}")
-    nu = np.asarray(dof, dtype=float)
-    if np.any(~(nu > 0)):
-        raise ValueError("degrees of freedom must be positive (inf for a known standard uncertainty)")
-    finite = np.isfinite(nu)
-    if truncate_dof:
-        nu = np.where(finite, np.floor(nu), nu)
-        if np.any(nu < 1):
-            raise ValueError("truncated degrees of freedom below 1")
-    q = 0.5 * (1.0 + p)
-    k = np.where(finite, stats.t.ppf(q, np.where(finite, nu, 1.0)), stats.norm.ppf(q))
-    return float(k) if k.ndim == 0 else k
-
-
 def welch_satterthwaite(components, dof, combined_uncertainty: float | None = None) -> float:
     """Welch-Satterthwaite effective degrees of freedom (JCGM 100:2008, G.4.1, eq. (G.2b)).
 
@@ -246,39 +198,9 @@ def sensitivity_coefficients(problem: Problem, outputs: Sequence[str] | None = N
 
 
 def _correlation_matrix(correlation, names: Sequence[str]) -> np.ndarray:
-    d = len(names)
     if correlation is None:
-        return np.eye(d)
-    if isinstance(correlation, pd.DataFrame):
-        unknown = (set(correlation.index) | set(correlation.columns)) - set(names)
-        if unknown:
-            raise ValueError(f"correlation matrix names unknown inputs: {sorted(unknown)}")
-        r = correlation.reindex(index=names, columns=names).to_numpy(dtype=float)
-        r = np.where(np.isnan(r), 0.0, r)
-        np.fill_diagonal(r, 1.0)
-    elif isinstance(correlation, Mapping):
-        r = np.eye(d)
-        pos = {n: i for i, n in enumerate(names)}
-        for pair, value in correlation.items():
-            a, b = pair
-            if a not in pos or b not in pos:
-                raise ValueError(f"correlation names unknown inputs: {pair!r}")
-            if a == b:
-                raise ValueError(f"correlation of an input with itself: {pair!r}")
-            r[pos[a], pos[b]] = r[pos[b], pos[a]] = float(value)
-    else:
-        r = np.array(correlation, dtype=float)
-    if r.shape != (d, d):
-        raise ValueError(f"correlation matrix must be {d} x {d} (inputs {list(names)}), got {r.shape}")
-    if not np.allclose(r, r.T, rtol=0.0, atol=1e-12):
-        raise ValueError("correlation matrix is not symmetric")
-    if not np.allclose(np.diag(r), 1.0, rtol=0.0, atol=1e-12):
-        raise ValueError("correlation matrix must have a unit diagonal")
-    if np.any(np.abs(r) > 1.0 + 1e-12):
-        raise ValueError("correlation coefficients must lie in [-1, 1]")
-    if d and np.linalg.eigvalsh(r).min() < -1e-10:
-        raise ValueError("correlation matrix is not positive semi-definite")
-    return r
+        return np.eye(len(names))
+    return Correlation.coerce(correlation, names).matrix
 
 
 def _dof_vector(dof, names: Sequence[str]) -> np.ndarray:

@@ -8,10 +8,7 @@ from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
-from simunc.uncertainty.sampling import (
-    map_to_inputs,
-)
-
+from simunc.uncertainty.sampling import map_to_inputs
 
 @dataclass(frozen=True)
 class Problem:

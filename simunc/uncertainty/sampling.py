@@ -57,6 +57,8 @@ import numpy as np
 from scipy import special
 from scipy.stats import qmc
 
+from simunc.uncertainty.correlation import Correlation
+
 #: Smallest distance from 0 and 1 kept before the inverse CDF (unbounded tails).
 _EPS = 1e-15
 
@@ -238,7 +240,8 @@ def unit_block(method: str, n: int, d: int, seed: int, block: int = 0) -> np.nda
 
 
 def correlation_factor(correlation, d: int) -> np.ndarray:
-    """Lower Cholesky factor ``L`` of a correlation matrix (``R = L L^T``), after checks.
+    """Lower Cholesky factor ``L`` of a correlation matrix (``R = L L^T``), after the checks of
+    :class:`~simunc.uncertainty.correlation.Correlation`.
 
     Raises
     ------
@@ -250,17 +253,16 @@ def correlation_factor(correlation, d: int) -> np.ndarray:
     array([[1. , 0. ],
            [0.6, 0.8]])
     """
+    if isinstance(correlation, Correlation):
+        if len(correlation.names) != d:
+            raise ValueError(f"correlation matrix must be {d} x {d} (one row per input), got "
+                             f"{len(correlation.names)} inputs")
+        return correlation.factor()
     r = np.asarray(correlation, dtype=float)
+    names = tuple(f"x{i}" for i in range(d))
     if r.shape != (d, d):
         raise ValueError(f"correlation matrix must be {d} x {d} (one row per input), got {r.shape}")
-    if not np.all(np.isfinite(r)) or np.max(np.abs(r - r.T), initial=0.0) > 1e-12:
-        raise ValueError("correlation matrix must be finite and symmetric")
-    if np.max(np.abs(np.diag(r) - 1.0), initial=0.0) > 1e-12 or np.max(np.abs(r)) > 1.0 + 1e-12:
-        raise ValueError("correlation matrix must have a unit diagonal and entries in [-1, 1]")
-    try:
-        return np.linalg.cholesky(0.5 * (r + r.T))
-    except np.linalg.LinAlgError:
-        raise ValueError("correlation matrix must be positive definite") from None
+    return Correlation(names, r).factor()
 
 
 def gaussian_copula(u: np.ndarray, correlation) -> np.ndarray:

@@ -37,11 +37,21 @@ class Fluid(Protocol):
         the methods as keyword arrays), e.g. ``("sutherland",)``.
     """
 
-    name: str
-    kind: str
-    description: str
-    stated_uncertainty: Mapping[str, float]
-    parameters: tuple[str, ...]
+    # Read-only members (properties), so that frozen dataclasses implement the protocol.
+    @property
+    def name(self) -> str: ...
+
+    @property
+    def kind(self) -> str: ...
+
+    @property
+    def description(self) -> str: ...
+
+    @property
+    def stated_uncertainty(self) -> Mapping[str, float]: ...
+
+    @property
+    def parameters(self) -> tuple[str, ...]: ...
 
     def density(self, p, t, **params) -> np.ndarray:
         """Density [kg m^-3]."""

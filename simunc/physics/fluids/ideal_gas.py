@@ -54,9 +54,9 @@ class IdealGas:
     k_ref: float
     sutherland_k: float
     description: str = ""
-    stated_uncertainty: dict = field(default_factory=dict)
+    stated_uncertainty: dict[str, float] = field(default_factory=dict)
     kind: str = "gas"
-    parameters: tuple = ("sutherland",)
+    parameters: tuple[str, ...] = ("sutherland",)
 
     def density(self, p, t, **params):
         """Density ``rho = p / (R T)`` [kg m^-3] from p [Pa] and T [K].

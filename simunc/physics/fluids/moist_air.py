@@ -318,6 +318,10 @@ def wilke_viscosity(vapour_mole_fraction, mu_air, mu_vapour, m_air, m_vapour=M_V
     return xa * mu_air / (xa + x * phi_av) + x * mu_vapour / (x + xa * phi_va)
 
 
+class _StatedByMode(dict[str, float]):
+    """Default of :attr:`MoistAir.stated_uncertainty`: replaced by the values of its mode."""
+
+
 @dataclass(frozen=True)
 class MoistAir:
     """Moist air with the CIPM-2007 density (see the module docstring for the model).
@@ -353,15 +357,15 @@ class MoistAir:
     strict: bool = False
     name: str = "moist_air"
     kind: str = "gas"
-    parameters: tuple = ("vapour_mole_fraction", "sutherland")
+    parameters: tuple[str, ...] = ("vapour_mole_fraction", "sutherland")
     description: str = (
         "moist air: CIPM-2007 density with Z (Picard et al. 2008), ideal-gas mixing of R and "
         "gamma (cp 29.10 and 33.59 J/(mol K), NIST-JANAF), Wilke viscosity of Sutherland air "
         "and IAPWS 2008 dilute water vapour")
-    stated_uncertainty: dict = field(default=None)
+    stated_uncertainty: dict[str, float] = field(default_factory=_StatedByMode)
 
     def __post_init__(self):
-        if self.stated_uncertainty is None:
+        if self.stated_uncertainty is None or type(self.stated_uncertainty) is _StatedByMode:
             object.__setattr__(self, "stated_uncertainty", dict(
                 STATED_UNCERTAINTY_CIPM if self.strict else STATED_UNCERTAINTY_EXTENDED))
         if not 0.0 <= self.vapour_mole_fraction < 1.0:

@@ -407,11 +407,11 @@ class FreshWater:
 
     name: str = "fresh_water"
     kind: str = "liquid"
-    parameters: tuple = ()
+    parameters: tuple[str, ...] = ()
     description: str = ("fresh (pure) water: Tanaka et al. 2001 density, IAPWS 2008 viscosity, "
                         "Bilaniuk & Wong 1993 speed of sound, Wagner & Pruss 1993 vapour "
                         "pressure, IAPWS 2014 surface tension")
-    stated_uncertainty: dict = field(default_factory=lambda: {
+    stated_uncertainty: dict[str, float] = field(default_factory=lambda: {
         "density": 1e-5 / np.sqrt(3.0),
         "viscosity": 0.005,
         "speed_of_sound": 5e-4 / np.sqrt(3.0),
@@ -493,11 +493,11 @@ class SeaWater:
     salinity: float = 35.0
     name: str = "sea_water"
     kind: str = "liquid"
-    parameters: tuple = ("salinity",)
+    parameters: tuple[str, ...] = ("salinity",)
     description: str = ("sea water: Sharqawy, Lienhard & Zubair 2010 density, viscosity, "
                         "vapour pressure and surface tension on IAPWS pure water; "
                         "Mackenzie 1981 speed of sound")
-    stated_uncertainty: dict = field(default_factory=lambda: {
+    stated_uncertainty: dict[str, float] = field(default_factory=lambda: {
         "density": 1e-3 / np.sqrt(3.0),
         "viscosity": 0.015 / np.sqrt(3.0),
         "speed_of_sound": 1e-3 / np.sqrt(3.0),

@@ -44,9 +44,7 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from simunc.pipeline import similitude_problem
-from simunc.similitude.inputs import build_inputs
-from simunc.similitude.setpoint import build_model, solve
+from simunc.pipeline import prepare
 from simunc.spec.readers import load_study
 from simunc.uncertainty.propagate import adaptive, propagate
 from simunc.uncertainty.sampling import BLOCK_SIZE
@@ -59,10 +57,7 @@ TARGET_RATIO = 0.25
 def demo():
     """The demo study, its Problem and the outputs of its tolerance bands."""
     study = load_study(STUDY)
-    model = build_model(study)
-    setpoint = solve(study, model)
-    problem = similitude_problem(model, setpoint, build_inputs(study.inputs, setpoint))
-    return study, problem, [b.output for b in study.bands]
+    return study, prepare(study).problem, [b.output for b in study.bands]
 
 
 def _maxrss_bytes(usage) -> int:

@@ -49,9 +49,7 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from simunc.pipeline import conformity, similitude_problem
-from simunc.similitude.inputs import build_inputs
-from simunc.similitude.setpoint import build_model, solve
+from simunc.pipeline import conformity, prepare
 from simunc.spec.readers import load_study
 from simunc.uncertainty.propagate import monte_carlo, summarize
 from simunc.uncertainty.sampling import map_to_inputs, unit_samples
@@ -75,10 +73,9 @@ class Case:
     def __init__(self, path: Path):
         # The hand-written path has no copula: compare on independent inputs.
         self.study = replace(load_study(path), correlation=None)
-        self.model = build_model(self.study)
-        self.setpoint = solve(self.study, self.model)
-        self.inputs = build_inputs(self.study.inputs, self.setpoint)
-        self.problem = similitude_problem(self.model, self.setpoint, self.inputs)
+        prep = prepare(self.study)
+        self.model, self.setpoint = prep.model, prep.setpoint
+        self.inputs, self.problem = list(prep.inputs), prep.problem
         self.coverage_probability = self.study.run.coverage_probability
         # Plain numbers only: no simunc function is called by the hand-written path.
         fac = self.study.facility

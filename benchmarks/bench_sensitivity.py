@@ -43,9 +43,7 @@ ROOT = Path(__file__).resolve().parents[1]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
-from simunc.pipeline import similitude_problem
-from simunc.similitude.inputs import build_inputs
-from simunc.similitude.setpoint import build_model, solve
+from simunc.pipeline import prepare
 from simunc.spec.readers import parse_study
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.sobol import sobol_analysis
@@ -71,9 +69,7 @@ def twelve_input_problem():
     data["uncertain"] = list(data["uncertain"]) + EXTRA_INPUTS
     data.pop("correlations", None)
     study = parse_study(data, str(STUDY))
-    model = build_model(study)
-    setpoint = solve(study, model)
-    problem = similitude_problem(model, setpoint, build_inputs(study.inputs, setpoint))
+    problem = prepare(study).problem
     bands = [b.output for b in study.bands]
     u = np.random.default_rng(0).random((256, problem.dimension))
     y = problem.evaluate_unit(u)

@@ -12,67 +12,75 @@ This is the Python API behind ``simunc run``::
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from typing import Literal
 
 import numpy as np
 import pandas as pd
 
-from simunc.decisions.allocation import allocate, input_limits
+from simunc.decisions.allocation import Allocation, allocate, input_limits
 from simunc.decisions.design import DESIGN_STREAM, VERIFY_STREAM, Design, stream_seed
-from simunc.decisions.sweeps import sweep
+from simunc.decisions.requirements import Check
+from simunc.decisions.sweeps import SweepResult, sweep
 from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
+from simunc.physics.dimensional import PiGroup
 from simunc.similitude.envelope import Envelope, envelope
-from simunc.similitude.inputs import UncertainInput, build_inputs
+from simunc.similitude.inputs import UncertainInput, build_inputs, similitude_problem
 from simunc.similitude.model import SimilitudeModel, trial_problems
 from simunc.similitude.setpoint import SetPoint, build_model, solve
 from simunc.similitude.testplan import TestPlan, plan
 from simunc.spec.catalogue import describe_output
-from simunc.spec.planning import check_outputs
-from simunc.spec.schema import Study
-from simunc.uncertainty.lpu import lpu, validate
+from simunc.spec.schema import RunSettings, Study, Sweep
+from simunc.uncertainty.lpu import LPUResult, lpu, validate
 from simunc.uncertainty.problem import Problem
-from simunc.uncertainty.propagate import adaptive, propagate
+from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
 from simunc.uncertainty.shapley import shapley_effects
 from simunc.uncertainty.sobol import SobolResult, sobol_analysis
 
+#: The optional parts of a run.
+Part = Literal["requirements", "sweeps"]
 
-@dataclass
+
+@dataclass(frozen=True, kw_only=True)
 class Result:
-    """Everything one run produces (SI floats, pandas tables)."""
+    """Everything one run produces (SI floats, pandas tables); built once, at the end of
+    :func:`run`, from the stages' results."""
 
     study: Study
+    settings: RunSettings                   # the run settings used (overrides applied)
     setpoint: SetPoint
-    inputs: list[UncertainInput]
+    inputs: tuple[UncertainInput, ...]
     trials: int
     seed: int
     statistics: pd.DataFrame
     conformity: dict[str, float]
     sobol: dict[str, pd.DataFrame]
     ranking: pd.DataFrame
-    warnings: list
+    warnings: tuple[str, ...]
     input_values: np.ndarray | None        # kept trials (None when the run streamed)
     output_values: dict[str, np.ndarray] | None
     preview: np.ndarray                    # Reynolds-number ratio of the first trials
-    engine: object                         # simunc.uncertainty.propagate.PropagationResult
+    engine: PropagationResult
     envelope: Envelope | None = None
     test_plan: TestPlan | None = None
-    pi_groups: list | None = None
-    lpu: object | None = None          # simunc.uncertainty.lpu.LPUResult
+    pi_groups: tuple[PiGroup, ...] | None = None
+    lpu: LPUResult | None = None
     validation: pd.DataFrame | None = None
     components: pd.DataFrame | None = None
     sobol_result: SobolResult | None = None
-    shapley: dict | None = None             # output -> DataFrame (correlated inputs)
-    tightening: pd.DataFrame | None = None  # "control this more tightly"
-    requirement_checks: list | None = None  # requirements at the written tolerances (fresh run)
+    shapley: dict[str, pd.DataFrame] | None = None   # output -> DataFrame (correlated inputs)
+    tightening: pd.DataFrame | None = None           # "control this more tightly"
+    requirement_checks: tuple[Check, ...] | None = None  # at the written tolerances (fresh run)
     input_limits: pd.DataFrame | None = None
-    allocation: object | None = None        # simunc.decisions.allocation.Allocation
-    sweeps: list = field(default_factory=list)
+    allocation: Allocation | None = None
+    sweeps: tuple[SweepResult, ...] = ()
     design_trials: int = 0
 
     @property
     def coverage_probability(self) -> float:
-        return self.study.run.coverage_probability
+        return self.settings.coverage_probability
 
     def samples(self) -> pd.DataFrame:
         """The trials: input deviations (SI, columns ``input: <name>``) and every output.
@@ -88,27 +96,6 @@ class Result:
         cols = {f"input: {i.name}": self.input_values[:, j] for j, i in enumerate(self.inputs)}
         cols.update({k: np.asarray(v) for k, v in self.output_values.items()})
         return pd.DataFrame(cols)
-
-
-def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
-                       inputs: list[UncertainInput]) -> Problem:
-    """The similitude model around a set point as a :class:`Problem` of its inputs.
-
-    Inputs acting on the same target add up; an input with several targets (a shared
-    systematic error) acts on each with its factor.
-    """
-    nominal = dict(setpoint.nominal)
-
-    def func(x):
-        deviations: dict[str, np.ndarray] = {}
-        for inp in inputs:
-            v = x[inp.name]
-            for target, factor in inp.effects:  # a shared error acts on each of its targets
-                d = v if factor == 1.0 else factor * v
-                deviations[target] = deviations[target] + d if target in deviations else d
-        return model({**nominal, **deviations})
-
-    return Problem([i.name for i in inputs], [i.distribution for i in inputs], func)
 
 
 def conformity(y: dict[str, np.ndarray], study: Study) -> dict[str, float]:
@@ -245,35 +232,71 @@ def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
 
 
 #: Parts of an analysis beyond the Monte Carlo run and the Sobol ranking.
-PARTS = ("requirements", "sweeps")
+PARTS: tuple[Part, ...] = ("requirements", "sweeps")
 
 
-def run(study: Study, trials: int | None = None, seed: int | None = None, *,
-        parts=PARTS, extra_sweeps=()) -> Result:
-    """Solve the set point, propagate the uncertain inputs, rank them, solve the requirements.
+@dataclass(frozen=True, kw_only=True)
+class Overrides:
+    """Run settings given outside the study (command-line options, API arguments)."""
+
+    trials: int | None = None
+    seed: int | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class Prepared:
+    """A study made ready for every analysis: settings, set point, model, inputs, problem.
+
+    The CLI, the Python API, the tests and the benchmarks all start here, so the model
+    they evaluate is the one ``simunc run`` evaluates.
+    """
+
+    study: Study
+    settings: RunSettings             # the study's [run] with the overrides applied
+    setpoint: SetPoint
+    model: SimilitudeModel
+    inputs: tuple[UncertainInput, ...]
+    problem: Problem
+    correlation: np.ndarray | None    # correlation matrix of the inputs, [[uncertain]] order
+
+
+def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
+    """Stage 1: solve the set point, build the model there and the inputs around it.
 
     Parameters
     ----------
     study : Study
         From :func:`simunc.load_study`.
-    trials, seed : int, optional
-        Override ``run.trials`` and ``run.seed``.
-    parts : sequence of str
-        Which of :data:`PARTS` to run when the study defines them: the requirement
-        solver and allocation (``[[requirement]]``), the tolerance sweeps (``[[sweep]]``).
-    extra_sweeps : sequence of simunc.spec.schema.Sweep
-        Sweeps to run besides the study's (the ``simunc sweep`` command).
+    overrides : Overrides, optional
+        Trials and seed replacing the study's ``[run]`` values.
     """
-    settings = replace(study.run, **{k: v for k, v in (("trials", trials), ("seed", seed))
+    o = overrides or Overrides()
+    settings = replace(study.run, **{k: v for k, v in (("trials", o.trials), ("seed", o.seed))
                                      if v is not None})
-    study = replace(study, run=settings)
     setpoint = solve(study)
-    check_outputs(study, setpoint.outputs)
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
-    inputs = build_inputs(study.inputs, setpoint)
-    problem = similitude_problem(model, setpoint, inputs)
-    monitor = TrialMonitor(study, model)
-    correlation = study.correlation.matrix if study.correlation else None
+    inputs = tuple(build_inputs(study.inputs, setpoint))
+    return Prepared(study=study, settings=settings, setpoint=setpoint, model=model, inputs=inputs,
+                    problem=similitude_problem(model, setpoint, list(inputs)),
+                    correlation=study.correlation.matrix if study.correlation else None)
+
+
+@dataclass(frozen=True, kw_only=True)
+class MonteCarloStage:
+    """Stage 2: the Monte Carlo run and what it gives directly."""
+
+    engine: PropagationResult
+    statistics: pd.DataFrame
+    conformity: dict[str, float]
+    preview: np.ndarray
+    warnings: tuple[str, ...]
+
+
+def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
+    """Propagate the inputs (fixed or adaptive trials), count conformity, collect warnings."""
+    study, settings, setpoint = prep.study, prep.settings, prep.setpoint
+    problem, correlation = prep.problem, prep.correlation
+    monitor = TrialMonitor(study, prep.model)
     p = settings.coverage_probability
     if settings.adaptive:
         # Stop on the matched groups (JCGM 101, 7.9), then evaluate every output on the very same
@@ -281,7 +304,7 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         probe = adaptive(problem, settings.seed, n_digits=settings.significant_digits,
                          coverage_probability=p, method=settings.sampling, correlation=correlation,
                          max_trials=settings.max_trials,
-                         outputs=[b.output for b in study.bands] if inputs else None)
+                         outputs=[b.output for b in study.bands] if prep.inputs else None)
         res = propagate(problem, probe.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=probe.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor,
@@ -309,47 +332,85 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
     if correlation is not None:
         warnings.append("The study correlates inputs: Sobol indices assume independent inputs, so "
                         "read the ranking with care.")
-    stats = _engine_statistics(res, setpoint)
-    conf = monitor.conformity()
+    return MonteCarloStage(engine=res, statistics=_engine_statistics(res, setpoint),
+                           conformity=monitor.conformity(),
+                           preview=np.concatenate(monitor.preview), warnings=tuple(warnings))
+
+
+@dataclass(frozen=True, kw_only=True)
+class SensitivityStage:
+    """Stage 3: Sobol indices, the band-share ranking and (correlated inputs) Shapley effects."""
+
+    sobol_result: SobolResult | None
+    sobol: dict[str, pd.DataFrame]
+    ranking: pd.DataFrame
+    shapley: dict[str, pd.DataFrame] | None
+
+
+def sensitivity_stage(prep: Prepared, mc: MonteCarloStage) -> SensitivityStage:
+    study, settings, problem = prep.study, prep.settings, prep.problem
     outputs = [b.output for b in study.bands]
     sens = study.sensitivity
     sobol_result = sobol_analysis(problem, outputs, settings.sobol_base_samples, settings.seed,
                                   second_order=sens.second_order,
-                                  groups=sens.groups or None) if inputs and outputs else None
+                                  groups=sens.groups or None) if prep.inputs and outputs else None
     sobol = sobol_result.first_total if sobol_result else {
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
-    ranking = _ranking(sobol, stats, study, inputs)
-    want_shapley = sens.shapley == "yes" or (sens.shapley == "auto" and correlation is not None)
-    shapley = shapley_effects(problem, outputs, correlation, seed=settings.seed) \
-        if inputs and outputs and want_shapley else None
-    pis = list(study.dimensional_analysis.groups) if study.dimensional_analysis else None
-    guf = validation = components = None
-    if inputs:
-        varying = [o for o in stats.index if stats.loc[o, "standard_uncertainty"] > 0.0]
-        dof = {i.name: i.dof for i in inputs}
-        finite = any(np.isfinite(v) for v in dof.values())
-        guf = lpu(problem, varying, coverage_probability=settings.coverage_probability,
-                  dof=dof if finite and correlation is None else None, correlation=correlation)
-        validation = validate(guf, stats.loc[varying], n_digits=2)
-        components = component_split(guf, inputs, [b.output for b in study.bands
-                                                    if b.output in varying])
-    result = Result(study, setpoint, inputs, res.trials, settings.seed, stats, conf, sobol,
-                    ranking, warnings, res.x, res.y, np.concatenate(monitor.preview), res,
-                    envelope(study, model, setpoint), plan(study, model, setpoint),
-                    pis, guf, validation, components, sobol_result, shapley)
-    if inputs:
-        _decisions(result, problem, model, correlation, parts, extra_sweeps)
-    return result
+    ranking = _ranking(sobol, mc.statistics, study, list(prep.inputs))
+    want_shapley = sens.shapley == "yes" or (sens.shapley == "auto"
+                                              and prep.correlation is not None)
+    shapley = shapley_effects(problem, outputs, prep.correlation, seed=settings.seed) \
+        if prep.inputs and outputs and want_shapley else None
+    return SensitivityStage(sobol_result=sobol_result, sobol=sobol, ranking=ranking,
+                            shapley=shapley)
 
 
-def _decisions(result: Result, problem: Problem, model: SimilitudeModel, correlation, parts,
-               extra_sweeps) -> None:
-    """Tightening ranking, requirements (limits, allocation, verification) and sweeps."""
-    study, setpoint, inputs = result.study, result.setpoint, result.inputs
-    settings, ds = study.run, study.design
+@dataclass(frozen=True, kw_only=True)
+class GumStage:
+    """Stage 4: the GUM framework beside the Monte Carlo (LPU, section 8 validation, split)."""
+
+    lpu: LPUResult | None
+    validation: pd.DataFrame | None
+    components: pd.DataFrame | None
+
+
+def gum_stage(prep: Prepared, mc: MonteCarloStage) -> GumStage:
+    if not prep.inputs:
+        return GumStage(lpu=None, validation=None, components=None)
+    stats, inputs = mc.statistics, prep.inputs
+    varying = [o for o in stats.index if stats.loc[o, "standard_uncertainty"] > 0.0]
+    dof = {i.name: i.dof for i in inputs}
+    finite = any(np.isfinite(v) for v in dof.values())
+    guf = lpu(prep.problem, varying, coverage_probability=prep.settings.coverage_probability,
+              dof=dof if finite and prep.correlation is None else None,
+              correlation=prep.correlation)
+    return GumStage(lpu=guf, validation=validate(guf, stats.loc[varying], n_digits=2),
+                    components=component_split(guf, inputs, [b.output for b in prep.study.bands
+                                                             if b.output in varying]))
+
+
+@dataclass(frozen=True, kw_only=True)
+class DecisionStage:
+    """Stage 5: tightening, requirements (limits, allocation, verification) and sweeps."""
+
+    design_trials: int = 0
+    tightening: pd.DataFrame | None = None
+    requirement_checks: tuple[Check, ...] | None = None
+    input_limits: pd.DataFrame | None = None
+    allocation: Allocation | None = None
+    sweeps: tuple[SweepResult, ...] = ()
+
+
+def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
+                   parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = ()
+                   ) -> DecisionStage:
+    study, setpoint, inputs = prep.study, prep.setpoint, list(prep.inputs)
+    if not inputs:
+        return DecisionStage()
+    problem, correlation, model = prep.problem, prep.correlation, prep.model
+    settings, ds = prep.settings, study.design
     design = Design(problem, study, setpoint, ds.trials, stream_seed(settings.seed, DESIGN_STREAM),
                     settings.sampling, correlation, model)
-    result.design_trials = design.trials
     base = design.figures(design.ones())
     if not base.finite:
         raise StudyError("uncertain", f"sizes that make design trials non-physical "
@@ -357,42 +418,84 @@ def _decisions(result: Result, problem: Problem, model: SimilitudeModel, correla
                          "enough that every trial is a physical, subsonic state")
     removed = {}
     for out in (b.output for b in study.bands):
-        if result.shapley is not None:
-            removed[out] = result.shapley[out]["first_order_full"]
-        elif out in result.sobol:
-            removed[out] = result.sobol[out]["S1"]
-    result.tightening = tightening(design, removed, inputs)
+        if sens.shapley is not None:
+            removed[out] = sens.shapley[out]["first_order_full"]
+        elif out in sens.sobol:
+            removed[out] = sens.sobol[out]["S1"]
+    tight = tightening(design, removed, inputs)
 
     def verify_design():
         return Design(problem, study, setpoint, ds.verify_trials,
                       stream_seed(settings.seed, VERIFY_STREAM), settings.sampling, correlation,
                       model)
 
+    checks = limits = allocation = None
     if "requirements" in parts and study.requirements:
         fresh = verify_design()
-        result.requirement_checks = fresh.figures(fresh.ones()).requirements
-        result.input_limits = input_limits(design, inputs)
+        checks = tuple(fresh.figures(fresh.ones()).requirements)
+        limits = input_limits(design, inputs)
         if any(i.spec.cost is not None for i in inputs):
-            cov = result.lpu.input_correlation * np.outer(result.lpu.input_uncertainties,
-                                                          result.lpu.input_uncertainties)
+            assert gum.lpu is not None
+            cov = gum.lpu.input_correlation * np.outer(gum.lpu.input_uncertainties,
+                                                       gum.lpu.input_uncertainties)
             needed = {r.output for r in study.requirements if r.output} | {
                 study.band(g).output for r in study.requirements for g in r.groups}
-            sens = _sensitivities(result, problem, correlation, needed)
+            coefficients = _sensitivities(gum.lpu, problem, correlation, needed)
             try:
-                result.allocation = allocate(design, inputs, sens, cov, verify_design)
+                allocation = allocate(design, inputs, coefficients, cov, verify_design)
             except ValueError as exc:
                 raise StudyError("uncertain.grades", str(exc), "fewer grade combinations") from exc
+    sweeps: tuple[SweepResult, ...] = ()
     if "sweeps" in parts:
-        for sw in tuple(study.sweeps) + tuple(extra_sweeps):
-            result.sweeps.append(sweep(design, sw.key, sw.inputs, sw.scale[0], sw.scale[1],
-                                       sw.points, sw.spacing))
+        sweeps = tuple(sweep(design, sw.key, sw.inputs, sw.scale[0], sw.scale[1], sw.points,
+                             sw.spacing) for sw in tuple(study.sweeps) + tuple(extra_sweeps))
+    return DecisionStage(design_trials=design.trials, tightening=tight, requirement_checks=checks,
+                         input_limits=limits, allocation=allocation, sweeps=sweeps)
 
 
-def _sensitivities(result: Result, problem: Problem, correlation, outputs) -> pd.DataFrame:
+def _sensitivities(result_lpu: LPUResult, problem: Problem, correlation, outputs) -> pd.DataFrame:
     """GUM sensitivity coefficients of ``outputs`` (from the run's LPU where it has them)."""
-    have = result.lpu.sensitivities
+    have = result_lpu.sensitivities
     missing = [o for o in outputs if o not in have.index]
     if not missing:
         return have.loc[sorted(outputs)]
     extra = lpu(problem, missing, correlation=correlation).sensitivities
     return pd.concat([have.loc[[o for o in outputs if o in have.index]], extra])
+
+
+def run(study: Study, trials: int | None = None, seed: int | None = None, *,
+        parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = (),
+        prepared: Prepared | None = None) -> Result:
+    """Solve the set point, propagate the uncertain inputs, rank them, solve the requirements.
+
+    Parameters
+    ----------
+    study : Study
+        From :func:`simunc.load_study`.
+    trials, seed : int, optional
+        Override ``run.trials`` and ``run.seed``.
+    parts : sequence of str
+        Which of :data:`PARTS` to run when the study defines them: the requirement
+        solver and allocation (``[[requirement]]``), the tolerance sweeps (``[[sweep]]``).
+    extra_sweeps : sequence of simunc.spec.schema.Sweep
+        Sweeps to run besides the study's (the ``simunc sweep`` command).
+    prepared : Prepared, optional
+        The result of :func:`prepare` for this study, when the caller has it already.
+    """
+    prep = prepared or prepare(study, Overrides(trials=trials, seed=seed))
+    mc = monte_carlo_stage(prep)
+    sens = sensitivity_stage(prep, mc)
+    gum = gum_stage(prep, mc)
+    dec = decision_stage(prep, sens, gum, parts, extra_sweeps)
+    study, setpoint, model = prep.study, prep.setpoint, prep.model
+    return Result(
+        study=study, settings=prep.settings, setpoint=setpoint, inputs=prep.inputs,
+        trials=mc.engine.trials, seed=prep.settings.seed, statistics=mc.statistics,
+        conformity=mc.conformity, sobol=sens.sobol, ranking=sens.ranking, warnings=mc.warnings,
+        input_values=mc.engine.x, output_values=mc.engine.y, preview=mc.preview, engine=mc.engine,
+        envelope=envelope(study, model, setpoint), test_plan=plan(study, model, setpoint),
+        pi_groups=tuple(study.dimensional_analysis.groups) if study.dimensional_analysis else None,
+        lpu=gum.lpu, validation=gum.validation, components=gum.components,
+        sobol_result=sens.sobol_result, shapley=sens.shapley, tightening=dec.tightening,
+        requirement_checks=dec.requirement_checks, input_limits=dec.input_limits,
+        allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials)

@@ -140,3 +140,22 @@ def test_the_rule_catches_a_wrong_import(bad, tmp_path, monkeypatch):
              if _layer(t) and _layer(t) != here and (RANKS[_layer(t)] > RANKS[here]
                                                       or {here, _layer(t)} == {"physics", "uncertainty"})]
     assert found
+
+
+# ---------------------------------------------------------------------------------------------
+# One list of the outputs a study forms: the catalogue's list is what the model returns.
+# ---------------------------------------------------------------------------------------------
+@pytest.mark.parametrize("study_file", sorted((PACKAGE.parent / "studies").glob("*.toml")))
+def test_the_model_forms_exactly_the_catalogued_outputs(study_file):
+    from simunc.pipeline import prepare
+    from simunc.spec.catalogue import formed_outputs
+    from simunc.spec.readers import load_study
+
+    study = load_study(study_file)
+    prep = prepare(study)
+    fs = study.full_scale
+    listed = formed_outputs(prep.model.fluid, fs.fluid,
+                            model_frequency=prep.setpoint.nominal.get("frequency") is not None,
+                            full_scale_frequency=fs.frequency is not None,
+                            custom=[c.name for c in study.custom_groups])
+    assert set(prep.setpoint.outputs) == set(listed)

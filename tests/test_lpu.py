@@ -475,17 +475,12 @@ def test_refusals():
 # ---------------------------------------------------------------------------
 @pytest.fixture(scope="module")
 def demo_problem():
-    # Built exactly as simunc.pipeline.run builds it.
+    # The problem simunc.pipeline.run evaluates.
     import simunc
-    from simunc.pipeline import similitude_problem
-    from simunc.similitude.inputs import build_inputs
-    from simunc.similitude.setpoint import build_model, solve
 
     study = simunc.load_study(Path(__file__).resolve().parent.parent / "studies" / "arven_cruise.toml")
-    setpoint = solve(study)
-    model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
-    inputs = build_inputs(study.inputs, setpoint)
-    return study, setpoint, inputs, similitude_problem(model, setpoint, inputs)
+    prep = simunc.prepare(study)
+    return study, prep.setpoint, list(prep.inputs), prep.problem
 
 
 def test_demo_reynolds_ratio_lpu_against_monte_carlo(demo_problem):

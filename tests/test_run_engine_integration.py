@@ -15,9 +15,7 @@ import numpy as np
 import pytest
 
 import simunc
-from simunc.pipeline import similitude_problem
-from simunc.similitude.inputs import build_inputs
-from simunc.similitude.setpoint import build_model, solve
+from simunc.pipeline import prepare
 
 from .conftest import DEMO
 
@@ -39,10 +37,8 @@ def test_adaptive_run_converges_in_whole_batches(study):
 def test_correlated_transducers_against_gum_formula(study):
     # u^2(y) = sum c_i^2 u_i^2 + 2 c_a c_b r u_a u_b (JCGM 100:2008 eq. 13) for the Mach difference,
     # which the two correlated pressure transducers and the Mach calibration drive.
-    model = build_model(study)
-    sp = solve(study, model)
-    inputs = build_inputs(study.inputs, sp)
-    problem = similitude_problem(model, sp, inputs)
+    prep = prepare(study)
+    inputs, problem = list(prep.inputs), prep.problem
     names = [i.name for i in inputs]
     u = np.array([i.standard_uncertainty for i in inputs])
     base = np.zeros((1, len(inputs)))

@@ -47,13 +47,11 @@ from scipy import optimize, special
 from simunc.decisions.requirements import (
     LOOSEN,
     SCREEN,
-    limit_of,
     centre_of,
     half_length_se,
+    limit_of,
     margins,
 )
-from simunc.spec.catalogue import TARGETS
-from simunc.units import DIMENSIONS
 
 #: Grade combinations the allocation enumerates at most, and design-sample checks at most.
 MAX_COMBINATIONS, MAX_CHECKS = 200_000, 150
@@ -125,7 +123,7 @@ def input_limits(design, inputs) -> pd.DataFrame:
             rows.append({"input": inp.name, "perturbs": ", ".join(inp.targets),
                          "largest_scale": np.nan, "status": "not achievable",
                          "U_k2_written": 2.0 * inp.standard_uncertainty, "U_k2_allowed": np.nan,
-                         "unit": input_unit(inp)})
+                         "unit": inp.unit})
             continue
         def ok(s, j=j):
             scale = design.ones()
@@ -138,12 +136,8 @@ def input_limits(design, inputs) -> pd.DataFrame:
                      "largest_scale": s, "status": status,
                      "U_k2_written": 2.0 * inp.standard_uncertainty,
                      "U_k2_allowed": 2.0 * inp.standard_uncertainty * s,
-                     "unit": input_unit(inp)})
+                     "unit": inp.unit})
     return pd.DataFrame(rows).set_index("input") if rows else pd.DataFrame()
-
-
-def input_unit(inp) -> str:
-    return DIMENSIONS[TARGETS[inp.target].dimension][1] or "1"
 
 
 # ---------------------------------------------------------------------------
@@ -265,6 +259,8 @@ class Allocation:
     rounds: int
     message: str = ""
     note: str = ""
+    #: Controls whose allocated tolerance lets the facility leave a limit (for the report).
+    excursions: tuple[str, ...] = ()
 
     @property
     def verified(self) -> bool:
@@ -284,13 +280,12 @@ def _power_cost(inputs, idx, s) -> float:
                      for k, j in enumerate(idx)))
 
 
-def grade_scale(inp, grade, setpoint) -> float:
+def grade_scale(inp, grade) -> float:
     """Tolerance scale of a grade: U_grade / (2 u_written)."""
     _, size, _, _ = grade
     value = size.value
-    reading_key = TARGETS[inp.target].reading
-    if size.relative and reading_key is not None:
-        value *= abs(float(setpoint.outputs[reading_key]))
+    if size.relative and inp.reading is not None:
+        value *= inp.reading
     return value / (2.0 * inp.standard_uncertainty)
 
 
@@ -370,7 +365,7 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
         cost = _power_cost(inputs, idx, scale[idx]) if best is not None else math.nan
         cost_written = _power_cost(inputs, idx, np.ones(len(idx)))
     else:
-        options = [[(g, grade_scale(inputs[j], g, design.setpoint)) for g in inputs[j].spec.cost.grades]
+        options = [[(g, grade_scale(inputs[j], g)) for g in inputs[j].spec.cost.grades]
                    for j in idx]
         n_comb = math.prod(len(o) for o in options)
         if n_comb > MAX_COMBINATIONS:
@@ -417,10 +412,12 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
         looser = scale.copy()
         looser[idx] *= LOOSEN
         loosened = vd.figures(looser).requirements
-        table = instrument_table(inputs, scale, idx, grades, design.setpoint)
+        table = instrument_table(inputs, scale, idx, grades)
+    excursions = tuple(control_excursions(inputs, scale, design.setpoint)) \
+        if ok and not message else ()
     return Allocation(kind, scale, cost, cost_written, grades, table, design_checks, verification,
                       loosened, vd.trials if vd else 0, vd.seed if vd else 0, rounds, message,
-                      note)
+                      note, excursions)
 
 
 def _relax(design, scale: np.ndarray, idx, inputs, largest: float) -> np.ndarray:
@@ -500,17 +497,15 @@ def control_excursions(inputs, scale, setpoint) -> list[str]:
     return out
 
 
-def instrument_table(inputs, scale, allocated, grades, setpoint) -> pd.DataFrame:
+def instrument_table(inputs, scale, allocated, grades) -> pd.DataFrame:
     """Instrument requirements: quantity, allowed U (k = 2), distribution assumed."""
     rows = []
     for j, inp in enumerate(inputs):
         u = inp.standard_uncertainty * float(scale[j])
-        reading_key = TARGETS[inp.target].reading
-        value = setpoint.outputs.get(reading_key) if reading_key else None
-        reading = abs(float(value)) if value is not None else None
+        reading = inp.reading
         rows.append({
             "input": inp.name, "quantity": inp.target.replace("_", " "),
-            "allowed U (k = 2)": 2.0 * u, "unit": input_unit(inp),
+            "allowed U (k = 2)": 2.0 * u, "unit": inp.unit,
             "% of reading": 100.0 * 2.0 * u / reading if reading else np.nan,
             "distribution": inp.kind, "as written U (k = 2)": 2.0 * inp.standard_uncertainty,
             "scale": float(scale[j]),

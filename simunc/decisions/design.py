@@ -25,12 +25,7 @@ import numpy as np
 
 from simunc.similitude.model import trial_problems
 from simunc.uncertainty.problem import Problem
-from simunc.uncertainty.sampling import (
-    copula_with_factor,
-    correlation_factor,
-    map_to_inputs,
-    unit_block,
-)
+from simunc.uncertainty.sampling import InputSampler
 from simunc.uncertainty.statistics import symmetric_interval
 
 #: Seed streams of the design sample and of the fresh verification run (offsets of the run seed
@@ -90,11 +85,8 @@ class Design:
     def __init__(self, problem: Problem, study, setpoint, trials: int, seed: int,
                  method: str = "random", correlation=None, model=None) -> None:
         self.problem, self.study, self.setpoint, self.model = problem, study, setpoint, model
-        d = problem.dimension
-        u = unit_block(method, int(trials), d, int(seed), 0)
-        if correlation is not None:
-            u = copula_with_factor(u, correlation_factor(correlation, d))
-        self.x = map_to_inputs(u, problem.distributions)
+        self.x = InputSampler(problem.distributions, int(seed), method, correlation,
+                              int(trials)).draw(0, [int(trials)])
         self.trials, self.seed = int(trials), int(seed)
         self.p = study.run.coverage_probability
         outs = [b.output for b in study.bands] + [r.output for r in study.requirements if r.output]

@@ -70,7 +70,6 @@ import numpy as np  # noqa: E402
 from simunc.constants import STANDARD_GRAVITY  # noqa: E402
 
 
-
 def froude(speed, length, gravity=STANDARD_GRAVITY):
     """Froude number ``Fr = V / sqrt(g L)``.
 

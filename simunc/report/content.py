@@ -11,8 +11,7 @@ from simunc import __version__
 from simunc.report import decisions
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
-from simunc.spec.catalogue import TARGETS, describe_output
-from simunc.units import DIMENSIONS
+from simunc.spec.catalogue import describe_output
 
 SAFETY = [
     "Pressurised facilities store a great deal of energy in the gas: run only inside the "
@@ -177,7 +176,7 @@ def build(result) -> list[Block]:
         rows = [(i.name, ", ".join(t for t, _ in i.effects), f"{i.kind} ({i.component})",
                  f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"
                  + (f" (k = {i.spec.coverage_factor:g})" if i.spec.size_kind == "expanded_uncertainty" else ""),
-                 i.standard_uncertainty, DIMENSIONS[TARGETS[i.target].dimension][1] or "1")
+                 i.standard_uncertainty, i.unit)
                 for i in result.inputs]
         b.append(Block("table", _table(pd.DataFrame(
             rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"]))))

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import pandas as pd
 
-from simunc.decisions.allocation import control_excursions
 from simunc.decisions.requirements import LOOSEN
 from simunc.report.blocks import Block, fmt, table
 
@@ -174,21 +173,19 @@ def requirement_blocks(result) -> list[Block]:
                    "distribution assumed):"))
     b.append(Block("table", table(a.table)))
     if not a.message:
-        over = control_excursions(result.inputs, a.scale, result.setpoint)
         b.append(Block("bullets", [
             "The allowed tolerances are accuracy requirements. A looser control tolerance also "
             "widens the excursions of the facility about its set point: they must stay inside "
             "the facility's rated envelope and the model's load rating, under the facility's "
             "safety rules and licensed engineering practice, whatever this allocation allows."]
             + [f"Caution: {m}. Keep that control tighter than allocated, or move the set "
-               "point." for m in over]))
+               "point." for m in a.excursions]))
     return b
 
 
 def sweep_blocks(result) -> list[Block]:
     if not result.sweeps:
         return []
-    st = result.study
     b = [Block("heading", "Tolerance sweeps")]
     b.append(Block("paragraph", f"Each swept input's tolerance is multiplied by the scale (its "
                    f"distribution keeps its shape); the other inputs stay as written. All points use "

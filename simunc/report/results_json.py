@@ -6,8 +6,6 @@ import json
 import math
 
 from simunc import __version__
-from simunc.spec.catalogue import TARGETS
-from simunc.units import DIMENSIONS
 
 SCHEMA_VERSION = 1
 
@@ -118,7 +116,7 @@ def results_dict(result) -> dict:
             "gum_standard_uncertainty": i.gum_standard_uncertainty,
             "controllable": bool(i.spec.controllable),
             "note": i.spec.note or None,
-            "unit": DIMENSIONS[TARGETS[i.target].dimension][1] or "1",
+            "unit": i.unit,
         } for i in result.inputs],
         "outputs": outputs,
         "warnings": list(result.warnings),

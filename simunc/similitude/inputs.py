@@ -51,9 +51,11 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import numpy as np
 from scipy import stats
 
 from simunc.errors import StudyError
+from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import SetPoint
 from simunc.spec.catalogue import TARGETS
 from simunc.spec.schema import InputSpec
@@ -66,6 +68,7 @@ from simunc.uncertainty.distributions import (
     truncated_normal_std,
     u_per_half_width,
 )
+from simunc.uncertainty.problem import Problem
 
 
 @dataclass(frozen=True)
@@ -97,6 +100,9 @@ class UncertainInput:
     gum_standard_uncertainty : float
         The standard uncertainty a law-of-propagation budget (JCGM 100) uses with ``dof``:
         the scale of a t-distribution (U / k, or s / sqrt(n)), else ``standard_uncertainty``.
+    reading : float or None
+        |value| of ``target``'s reading at the set point [SI] (what ``%`` of reading refers
+        to); None for a target whose size is itself a fraction.
     """
 
     name: str
@@ -109,12 +115,18 @@ class UncertainInput:
     component: str = "systematic"
     dof: float = math.inf
     gum_standard_uncertainty: float | None = None
+    reading: float | None = None
 
     def __post_init__(self) -> None:
         if not self.effects:
             object.__setattr__(self, "effects", ((self.target, 1.0),))
         if self.gum_standard_uncertainty is None:
             object.__setattr__(self, "gum_standard_uncertainty", self.standard_uncertainty)
+
+    @property
+    def unit(self) -> str:
+        """SI unit of the deviation of ``target``."""
+        return TARGETS[self.target].unit
 
     @property
     def targets(self) -> tuple[str, ...]:
@@ -223,5 +235,27 @@ def build_inputs(specs, setpoint: SetPoint) -> list[UncertainInput]:
                                  f"of {target}", "a size greater than zero at the set point")
             effects.append((target, size / first))
         out.append(UncertainInput(spec.name, spec.target, dist, kind, u, spec, tuple(effects),
-                                  spec.component, spec.dof, u_gum))
+                                  spec.component, spec.dof, u_gum,
+                                  None if readings[0] is None else abs(float(readings[0]))))
     return out
+
+
+def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
+                       inputs: list[UncertainInput]) -> Problem:
+    """The similitude model around a set point as a :class:`Problem` of its inputs.
+
+    Inputs acting on the same target add up; an input with several targets (a shared
+    systematic error) acts on each with its factor.
+    """
+    nominal = dict(setpoint.nominal)
+
+    def func(x):
+        deviations: dict[str, np.ndarray] = {}
+        for inp in inputs:
+            v = x[inp.name]
+            for target, factor in inp.effects:  # a shared error acts on each of its targets
+                d = v if factor == 1.0 else factor * v
+                deviations[target] = deviations[target] + d if target in deviations else d
+        return model({**nominal, **deviations})
+
+    return Problem([i.name for i in inputs], [i.distribution for i in inputs], func)

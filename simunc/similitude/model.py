@@ -38,7 +38,7 @@ import numpy as np
 from simunc.constants import STANDARD_GRAVITY
 from simunc.physics import flow, groups
 from simunc.physics.fluids import Fluid
-from simunc.spec.catalogue import GROUPS, TARGETS
+from simunc.spec.catalogue import GROUPS, TARGETS, formed_groups
 
 
 @dataclass(frozen=True)
@@ -133,23 +133,23 @@ class SimilitudeModel:
                 "a": a, "mu": fg.viscosity(p, t, **params), "speed": speed, "mach": mach}
 
     @staticmethod
-    def _groups(s: dict, length, frequency) -> dict:
+    def _groups(s: dict, length, frequency, names: tuple[str, ...]) -> dict:
+        """The groups ``names`` (:func:`~simunc.spec.catalogue.formed_groups`) of one state."""
         f, params = s["fluid"], s["params"]
         rho, u, mu, p, t = s["rho"], s["speed"], s["mu"], s["p"], s["t"]
-        g = {"reynolds": groups.reynolds(rho, u, length, mu), "mach": s["mach"],
-             "froude": groups.froude(u, length, STANDARD_GRAVITY),
-             "euler": groups.euler(p, rho, u)}
-        if frequency is not None:
-            g["strouhal"] = groups.strouhal(frequency, length, u)
-        if hasattr(f, "specific_heat_cp") and hasattr(f, "thermal_conductivity"):
-            g["prandtl"] = groups.prandtl(mu, f.specific_heat_cp(p, t, **params),
-                                          f.thermal_conductivity(p, t, **params))
-        if f.kind == "gas":
-            g["isentropic_exponent"] = f.isentropic_exponent(p, t, **params)
-        else:
-            g["cavitation"] = groups.cavitation_number(p, f.vapour_pressure(t), rho, u)
-            g["weber"] = groups.weber(rho, u, length, f.surface_tension(t))
-        return g
+        formulas = {
+            "reynolds": lambda: groups.reynolds(rho, u, length, mu),
+            "mach": lambda: s["mach"],
+            "froude": lambda: groups.froude(u, length, STANDARD_GRAVITY),
+            "strouhal": lambda: groups.strouhal(frequency, length, u),
+            "weber": lambda: groups.weber(rho, u, length, f.surface_tension(t)),
+            "prandtl": lambda: groups.prandtl(mu, f.specific_heat_cp(p, t, **params),
+                                              f.thermal_conductivity(p, t, **params)),
+            "isentropic_exponent": lambda: f.isentropic_exponent(p, t, **params),
+            "euler": lambda: groups.euler(p, rho, u),
+            "cavitation": lambda: groups.cavitation_number(p, f.vapour_pressure(t), rho, u),
+        }
+        return {name: formulas[name]() for name in names}
 
     @staticmethod
     def _quantities(s: dict, length, frequency) -> dict:
@@ -210,15 +210,16 @@ class SimilitudeModel:
             out["full_scale_frequency"] = fs_freq
         for name, v in fac["params"].items():
             out[name] = v
-        gm = self._groups(fac, length, freq if fs_freq is not None else None)
-        gf = self._groups(fs, fs_length, fs_freq if freq is not None else None)
-        for name in GROUPS:
-            if name in gm and name in gf:
-                out[f"{name}_model"], out[f"{name}_full_scale"] = gm[name], gf[name]
-                if GROUPS[name][1] == "difference":
-                    out[f"{name}_difference"] = gm[name] - gf[name]
-                else:
-                    out[f"{name}_ratio"] = gm[name] / gf[name]
+        names = formed_groups(self.fluid, self.full_scale_fluid,
+                              freq is not None and fs_freq is not None)
+        gm = self._groups(fac, length, freq, names)
+        gf = self._groups(fs, fs_length, fs_freq, names)
+        for name in names:
+            out[f"{name}_model"], out[f"{name}_full_scale"] = gm[name], gf[name]
+            if GROUPS[name][1] == "difference":
+                out[f"{name}_difference"] = gm[name] - gf[name]
+            else:
+                out[f"{name}_ratio"] = gm[name] / gf[name]
         if self.custom_groups:
             qm = self._quantities(fac, length, freq)
             qf = self._quantities(fs, fs_length, fs_freq)

@@ -6,10 +6,12 @@ what the model reads and returns; the physics lives in :mod:`simunc.physics`.
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
+
+from simunc.units import DIMENSIONS
 
 
 @dataclass(frozen=True)
@@ -37,8 +39,17 @@ class Target:
     dimension: str
     reading: str | None
     description: str
-    modes: tuple = ("gas", "liquid")
+    modes: tuple[str, ...] = ("gas", "liquid")
     parameter: str | None = None
+
+    @property
+    def unit(self) -> str:
+        """SI unit of the deviation (``"1"`` for a fraction or a plain number).
+
+        >>> TARGETS["stagnation_temperature_control"].unit
+        'K'
+        """
+        return DIMENSIONS[self.dimension][1] or "1"
 
 
 _GAS = ("gas",)
@@ -167,3 +178,46 @@ def describe_output(key: str) -> tuple[str, str]:
             label = GROUPS[name][0] if name in GROUPS else f"user group {name}"
             return "1", f"{label}: {text}"
     return "", key
+
+
+def formed_groups(facility_fluid: object, full_scale_fluid: object, frequency: bool) -> tuple[str, ...]:
+    """The built-in groups the model forms for a pair of fluids, in :data:`GROUPS` order.
+
+    Reynolds, Mach, Froude and Euler always; Strouhal with a model and a full-scale
+    frequency; Prandtl when both fluids have a heat capacity and a conductivity; the
+    isentropic exponent for two gases; the cavitation and Weber numbers for two liquids.
+    The model (:class:`simunc.similitude.model.SimilitudeModel`) forms exactly these.
+    """
+    kinds = {getattr(facility_fluid, "kind", None), getattr(full_scale_fluid, "kind", None)}
+    conducts = all(hasattr(f, "specific_heat_cp") and hasattr(f, "thermal_conductivity")
+                   for f in (facility_fluid, full_scale_fluid))
+    present = {"reynolds", "mach", "froude", "euler"}
+    if frequency:
+        present.add("strouhal")
+    if conducts:
+        present.add("prandtl")
+    if kinds == {"gas"}:
+        present.add("isentropic_exponent")
+    if kinds == {"liquid"}:
+        present |= {"cavitation", "weber"}
+    return tuple(g for g in GROUPS if g in present)
+
+
+def formed_outputs(facility_fluid: object, full_scale_fluid: object, *, model_frequency: bool,
+                   full_scale_frequency: bool, custom: Sequence[str] = ()) -> tuple[str, ...]:
+    """Every output key the model returns for a study: the flow quantities of :data:`OUTPUTS`
+    (frequencies where given, the facility fluid's parameters), then per formed group
+    ``<group>_model``, ``<group>_full_scale`` and :func:`output_key`, then the user groups."""
+    params = tuple(getattr(facility_fluid, "parameters", ()))
+    every_parameter = {t.parameter for t in TARGETS.values() if t.parameter}
+    flow = [k for k in OUTPUTS if k not in every_parameter
+            and (k != "frequency" or model_frequency)
+            and (k != "full_scale_frequency" or full_scale_frequency)] + list(params)
+    groups = formed_groups(facility_fluid, full_scale_fluid,
+                           model_frequency and full_scale_frequency)
+    out = flow + [f"{g}_{s}" for g in groups for s in ("model", "full_scale")] + \
+        [output_key(g) for g in groups]
+    for name in custom:
+        out += [f"{name}_model", f"{name}_full_scale", f"{name}_ratio"]
+    return tuple(out)
+

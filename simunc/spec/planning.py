@@ -220,12 +220,3 @@ def design(data: Any) -> DesignSettings:
                        what="a tolerance scale above 1 (how far the solver may loosen an input)")
     return DesignSettings(t.integer("trials", 50_000, 1000),
                           t.integer("verify_trials", 200_000, 1000), largest)
-
-
-def check_outputs(study, outputs) -> None:
-    """Refuse a requirement on an output this study's model does not form (at the set point)."""
-    for r in study.requirements:
-        if r.output is not None and r.output not in outputs:
-            key = r.key + (".group" if any(b.output == r.output for b in study.bands) else ".output")
-            raise StudyError(key, repr(r.output), "an output this study's model forms: " +
-                             ", ".join(sorted(k for k in outputs if not k.startswith("_"))))

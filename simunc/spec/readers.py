@@ -18,19 +18,18 @@ from typing import Any
 
 import numpy as np
 
-from simunc.constants import STANDARD_PRESSURE, STANDARD_GRAVITY
+from simunc.constants import STANDARD_GRAVITY, STANDARD_PRESSURE
 from simunc.errors import StudyError
 from simunc.physics import atmosphere, flow, groups
-from simunc.uncertainty.correlation import Correlation
-from simunc.uncertainty.distributions import coverage_factor, make_distribution
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.spec import planning as planning_spec
 from simunc.spec.catalogue import (
     GROUPS,
-    OUTPUTS,
     QUANTITIES,
     TARGETS,
     CustomGroup,
+    formed_groups,
+    formed_outputs,
     output_key,
 )
 from simunc.spec.keys import (
@@ -70,6 +69,8 @@ from simunc.spec.schema import (
     Study,
 )
 from simunc.spec.table import Table, check_finite
+from simunc.uncertainty.correlation import Correlation
+from simunc.uncertainty.distributions import coverage_factor, make_distribution
 from simunc.units import DIMENSIONS, Parsed, parse, to_si, ureg
 
 
@@ -768,6 +769,13 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
                 "frontal_area", "the blockage limit needs full_scale.frontal_area")
         ft.require("max_blockage", "full_scale.frontal_area serves only the blockage limit")
     has_freq = fs.frequency is not None and (freq is not None or "frequency" in unknowns)
+    formed = [set(formed_groups(f, fs.fluid, has_freq)) for f in fac.fluids]
+    for b in bands:
+        if b.group in GROUPS and not all(b.group in g for g in formed):
+            raise StudyError(f"match.{b.group}", f"a {b.group} band with facility fluid "
+                             f"{' / '.join(f.name for f in fac.fluids)} and full-scale fluid "
+                             f"{fs.fluid.name}", "a band on a group this study forms: " +
+                             ", ".join(g for g in GROUPS if all(g in f for f in formed)))
     for cg in customs:
         if "frequency" in cg.powers and not has_freq:
             raise StudyError(f"match.custom.{cg.name}.powers", dict(cg.powers), "a frequency only "
@@ -800,7 +808,12 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
         sobol_base_samples=n_sobol,
     )
     dim = _dimensional(data["dimensional_analysis"]) if "dimensional_analysis" in data else None
-    requirements, sweeps, sens, design = _decisions(data, bands, inputs)
+    outputs = set.intersection(*(set(formed_outputs(
+        f, fs.fluid, model_frequency=fs.frequency is not None and (
+            freq is not None or "frequency" in unknowns),
+        full_scale_frequency=fs.frequency is not None, custom=[c.name for c in customs]))
+        for f in fac.fluids))
+    requirements, sweeps, sens, design = _decisions(data, bands, inputs, outputs)
     return Study(
         title=root.text("title", "untitled study"),
         description=root.text("description", ""),
@@ -819,13 +832,11 @@ def _array(data: dict, key: str) -> list:
     return raw
 
 
-def _decisions(data: dict, bands, inputs) -> tuple:
-    """``[[requirement]]``, ``[[sweep]]``, ``[sensitivity]``, ``[design]`` (planning_spec)."""
+def _decisions(data: dict, bands, inputs, formed: set[str]) -> tuple:
+    """``[[requirement]]``, ``[[sweep]]``, ``[sensitivity]``, ``[design]`` (spec.planning);
+    ``formed``: the outputs the model forms for this study."""
     names = [i.name for i in inputs]
-    groups = list(GROUPS) + [b.group for b in bands]
-    outputs = list(dict.fromkeys([b.output for b in bands] + [
-        f"{g}_{s}" for g in groups for s in ("model", "full_scale", "ratio")] + [
-        "mach_difference"] + list(OUTPUTS)))
+    outputs = [k for k in dict.fromkeys([b.output for b in bands] + sorted(formed)) if k in formed]
     reqs = tuple(planning_spec.requirement(d, i, bands, outputs)
                  for i, d in enumerate(_array(data, "requirement")))
     sweeps = tuple(planning_spec.sweep(d, i, names) for i, d in enumerate(_array(data, "sweep")))

@@ -49,8 +49,8 @@ import numpy as np
 import pandas as pd
 import uncertainties
 
-from simunc.uncertainty.distributions import coverage_factor
 from simunc.uncertainty.correlation import Correlation
+from simunc.uncertainty.distributions import coverage_factor
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.statistics import numerical_tolerance
 

@@ -10,6 +10,7 @@ import numpy as np
 
 from simunc.uncertainty.sampling import map_to_inputs
 
+
 @dataclass(frozen=True)
 class Problem:
     """A vectorized model with named, independent uncertain inputs.

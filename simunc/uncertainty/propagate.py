@@ -44,11 +44,8 @@ import numpy as np
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.sampling import (
     BLOCK_SIZE,
-    METHODS,
-    copula_with_factor,
-    correlation_factor,
+    InputSampler,
     map_to_inputs,
-    unit_block,
     unit_samples,
 )
 from simunc.uncertainty.statistics import (
@@ -262,33 +259,15 @@ class PropagationResult:
 # Engine
 # ---------------------------------------------------------------------------
 
-class _Sampler:
+class _Sampler(InputSampler):
     """Draw and evaluate whole blocks of a problem."""
 
     def __init__(self, problem: Problem, seed: int, method: str, correlation, block_size: int):
-        if method not in METHODS:
-            raise ValueError(f"sampling method must be one of {METHODS}, got {method!r}")
-        if int(block_size) != block_size or block_size < 1:
-            raise ValueError(f"block size must be a positive integer, got {block_size!r}")
-        if int(seed) != seed or seed < 0:
-            raise ValueError(f"seed must be a non-negative integer, got {seed!r}")
-        self.problem, self.seed, self.method = problem, int(seed), method
-        self.block_size = int(block_size)
-        self.d = problem.dimension
-        self.correlation = None if correlation is None else np.array(correlation, dtype=float)
-        self.factor = None if correlation is None else correlation_factor(correlation, self.d)
+        super().__init__(problem.distributions, seed, method, correlation, block_size)
+        self.problem = problem
 
     def chunk(self, first: int, sizes: Sequence[int]) -> tuple[np.ndarray, dict[str, np.ndarray]]:
-        n = int(sum(sizes))
-        u = np.empty((n, self.d))
-        ofs = 0
-        if self.d:
-            for b, size in enumerate(sizes, start=first):
-                u[ofs:ofs + size] = unit_block(self.method, size, self.d, self.seed, b)
-                ofs += size
-            if self.factor is not None:
-                u = copula_with_factor(u, self.factor)
-        x = map_to_inputs(u, self.problem.distributions)
+        x = self.draw(first, sizes)
         return x, self.problem.evaluate(x)
 
 

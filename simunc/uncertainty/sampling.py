@@ -50,7 +50,7 @@ References
 from __future__ import annotations
 
 import warnings
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from typing import Any
 
 import numpy as np
@@ -311,3 +311,55 @@ def copula_with_factor(u: np.ndarray, factor: np.ndarray) -> np.ndarray:
                 row += tmp
     special.ndtr(out, out=out)
     return out.T
+
+
+class InputSampler:
+    """The one sampler: seeded input values, block by block, with the correlations honoured.
+
+    Block ``b`` of the unit cube comes from :func:`unit_block` ``(method, size, d, seed, b)``,
+    goes through the Gaussian copula when a correlation is given, and is mapped through each
+    input's inverse CDF. The Monte Carlo engine and the common-random-number design sample
+    both draw here, so a sample depends on the seed, the method and the block layout only.
+
+    Parameters
+    ----------
+    distributions : sequence
+        Frozen scipy.stats distributions, one per input.
+    seed : int
+        Non-negative seed.
+    method : {"random", "lhs", "sobol"}
+    correlation : array_like or Correlation, optional
+        Correlation matrix of the inputs (Gaussian copula).
+    block_size : int
+        Trials per block (the unit of seeding).
+    """
+
+    def __init__(self, distributions: Sequence[object], seed: int, method: str = "random",
+                 correlation: object = None, block_size: int = BLOCK_SIZE) -> None:
+        if method not in METHODS:
+            raise ValueError(f"sampling method must be one of {METHODS}, got {method!r}")
+        if int(block_size) != block_size or block_size < 1:
+            raise ValueError(f"block size must be a positive integer, got {block_size!r}")
+        if int(seed) != seed or seed < 0:
+            raise ValueError(f"seed must be a non-negative integer, got {seed!r}")
+        self.distributions = list(distributions)
+        self.seed, self.method, self.block_size = int(seed), method, int(block_size)
+        self.d = len(self.distributions)
+        self.correlation = None if correlation is None else (
+            correlation.matrix if isinstance(correlation, Correlation)
+            else np.array(correlation, dtype=float))
+        self.factor = None if correlation is None else correlation_factor(correlation, self.d)
+
+    def draw(self, first: int, sizes: Sequence[int]) -> np.ndarray:
+        """Input values of blocks ``first, first + 1, ...`` of the given sizes, stacked."""
+        n = int(sum(sizes))
+        u = np.empty((n, self.d))
+        ofs = 0
+        if self.d:
+            for b, size in enumerate(sizes, start=first):
+                u[ofs:ofs + size] = unit_block(self.method, size, self.d, self.seed, b)
+                ofs += size
+            if self.factor is not None:
+                u = copula_with_factor(u, self.factor)
+        return map_to_inputs(u, self.distributions)
+

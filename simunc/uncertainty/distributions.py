@@ -9,7 +9,14 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import special, stats
+from scipy import special
+
+
+def _stats():
+    """scipy.stats, imported on first use (half a second that ``simunc check`` need not pay)."""
+    from scipy import stats
+
+    return stats
 
 #: Standard uncertainty of a unit half-width, by distribution (trapezoidal: beta = 1 row of
 #: :func:`u_per_half_width`).
@@ -33,20 +40,20 @@ def u_per_half_width(kind: str, beta: float | None = None) -> float:
 def bounded(kind: str, a: float, beta: float | None = None):
     """Frozen distribution of mean 0 on [-a, a] (rectangular, triangular, trapezoidal, arcsine)."""
     if kind == "rectangular":
-        return stats.uniform(loc=-a, scale=2.0 * a)
+        return _stats().uniform(loc=-a, scale=2.0 * a)
     if kind == "triangular":
-        return stats.triang(c=0.5, loc=-a, scale=2.0 * a)
+        return _stats().triang(c=0.5, loc=-a, scale=2.0 * a)
     if kind == "trapezoidal":
-        return stats.trapezoid(0.5 * (1.0 - beta), 0.5 * (1.0 + beta), loc=-a, scale=2.0 * a)
+        return _stats().trapezoid(0.5 * (1.0 - beta), 0.5 * (1.0 + beta), loc=-a, scale=2.0 * a)
     if kind == "arcsine":
-        return stats.arcsine(loc=-a, scale=2.0 * a)
+        return _stats().arcsine(loc=-a, scale=2.0 * a)
     raise ValueError(f"not a bounded family: {kind}")
 
 
 def truncated_normal(sigma: float, limit: float):
     """Normal N(0, sigma²) truncated to [-limit, limit] (frozen scipy.stats.truncnorm)."""
     c = limit / sigma
-    return stats.truncnorm(-c, c, loc=0.0, scale=sigma)
+    return _stats().truncnorm(-c, c, loc=0.0, scale=sigma)
 
 
 def truncated_normal_std(sigma: float, limit: float) -> float:
@@ -75,7 +82,7 @@ def lognormal(u_relative: float, reading: float = 1.0):
     (0.0, 0.2)
     """
     s = math.sqrt(math.log1p(u_relative * u_relative))
-    return stats.lognorm(s, loc=-reading, scale=reading * math.exp(-0.5 * s * s))
+    return _stats().lognorm(s, loc=-reading, scale=reading * math.exp(-0.5 * s * s))
 
 
 def make_distribution(kind: str, u: float, *, beta: float | None = None, dof: float = math.inf):
@@ -91,9 +98,9 @@ def make_distribution(kind: str, u: float, *, beta: float | None = None, dof: fl
     1.0
     """
     if kind == "normal" and math.isinf(dof):
-        return stats.norm(loc=0.0, scale=u)
+        return _stats().norm(loc=0.0, scale=u)
     if kind in ("normal", "t"):
-        return stats.t(dof, loc=0.0, scale=u * math.sqrt((dof - 2.0) / dof))
+        return _stats().t(dof, loc=0.0, scale=u * math.sqrt((dof - 2.0) / dof))
     if kind == "lognormal":
         return lognormal(u)
     return bounded(kind, u / u_per_half_width(kind, beta), beta)
@@ -144,5 +151,5 @@ def coverage_factor(coverage_probability: float = 0.95, dof=math.inf,
         if np.any(nu < 1):
             raise ValueError("truncated degrees of freedom below 1")
     q = 0.5 * (1.0 + p)
-    k = np.where(finite, stats.t.ppf(q, np.where(finite, nu, 1.0)), stats.norm.ppf(q))
+    k = np.where(finite, _stats().t.ppf(q, np.where(finite, nu, 1.0)), _stats().norm.ppf(q))
     return float(k) if k.ndim == 0 else k

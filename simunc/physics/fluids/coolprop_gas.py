@@ -99,14 +99,30 @@ from __future__ import annotations
 
 import math
 from collections import OrderedDict
-from typing import Mapping
+from typing import Any, Mapping
 
-import CoolProp.CoolProp as CP
 import numpy as np
 from numpy.polynomial import chebyshev as _cheb
 from scipy.interpolate import CubicSpline
 
 __all__ = ["CoolPropGas", "AIR_REAL", "NITROGEN"]
+
+
+class _CoolPropOnDemand:
+    """CoolProp's low-level interface, imported on first use: loading it takes seconds, and a
+    study whose fluids are closed forms never needs it."""
+
+    _module: Any = None
+
+    def __getattr__(self, name: str) -> Any:
+        if _CoolPropOnDemand._module is None:
+            import CoolProp.CoolProp as module
+
+            _CoolPropOnDemand._module = module
+        return getattr(_CoolPropOnDemand._module, name)
+
+
+CP = _CoolPropOnDemand()
 
 # Tabulated quantities (columns of a table), all functions of (ln p [ln Pa], T [K]).
 _LNRHO, _LNA, _H, _S, _LNMU, _LNK, _LNCP = range(7)

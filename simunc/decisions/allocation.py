@@ -45,12 +45,10 @@ import pandas as pd
 from scipy import optimize, special
 
 from simunc.decisions.requirements import (
+    KINDS,
     LOOSEN,
     SCREEN,
     centre_of,
-    half_length_se,
-    limit_of,
-    margins,
 )
 
 #: Grade combinations the allocation enumerates at most, and design-sample checks at most.
@@ -170,7 +168,7 @@ class Surrogate:
         cs = scales * self.sens[output]
         return np.sqrt(np.maximum(np.einsum("mi,ij,mj->m", cs, self.cov, cs), 0.0))
 
-    def _matched_ratio(self, output: str, w: float, p_mc: float, lin: float) -> float:
+    def matched_ratio(self, output: str, w: float, p_mc: float, lin: float) -> float:
         """sigma / sigma_lin with which the normal P(|y - c| <= w) equals ``p_mc``."""
         mu = self.bias[output]
         if not (0.0 < p_mc < 1.0) or lin <= 0.0:
@@ -193,51 +191,25 @@ class Surrogate:
             self.bias[k] = fig.mean[k] - centre_of(k, st, sp) if np.isfinite(fig.mean[k]) else 0.0
         self.joint = {}
         for r, c in zip(st.requirements, fig.requirements):
-            if r.kind == "expanded_uncertainty":
-                u = fig.standard_uncertainty[r.output]
-                self.kappa[r.key] = c.value / u if u > 0 and np.isfinite(c.value) else 1.96
-                v = np.asarray(y[r.output])
-                pr = r.probability if r.probability > 0 else d.p
-                se = half_length_se(v, pr) if u > 0 else 0.0
-                self.slack[r.key] = 3.0 * se * math.sqrt(1.0 + d.trials / st.design.verify_trials) \
-                    / c.value if c.value > 0 else 0.0
-            elif r.kind == "within":
-                lin = float(self.sigma(r.output, scale[None, :])[0])
-                self.ratio[r.key] = self._matched_ratio(r.output, limit_of(r, st, sp), c.value, lin)
-            else:
-                pred = float(self._conformity(r, scale[None, :], raw=True)[0])
-                self.joint[r.key] = c.value / pred if pred > 0 and np.isfinite(c.value) else 1.0
+            KINDS[r.kind].calibrate(r, self, scale, y, fig, c)
 
-    def _p_within(self, output, w, scales, key=None):
+    def p_within(self, output, w, scales, key=None):
         ratio = self.ratio.get(key, self.ratio[output]) if key else self.ratio[output]
         s = np.maximum(ratio * self.sigma(output, scales), 1e-300)
         mu = self.bias[output]
         return special.ndtr((w - mu) / s) - special.ndtr((-w - mu) / s)
 
-    def _conformity(self, r, scales, raw=False):
+    def conformity(self, r, scales, raw=False):
         st = self.design.study
         p = np.ones(len(scales))
         for g in r.groups:
             band = st.band(g)
-            p = p * self._p_within(band.output, band.tolerance, scales)
+            p = p * self.p_within(band.output, band.tolerance, scales)
         return p if raw else np.minimum(p * self.joint.get(r.key, 1.0), 1.0)
 
     def margins(self, scales: np.ndarray) -> np.ndarray:
         """Constraint values (>= 0 when met, with the design margins), shape (m, n_req)."""
-        st, sp, n = self.design.study, self.design.setpoint, self.design.trials
-        cols = []
-        for r in st.requirements:
-            if r.kind == "expanded_uncertainty":
-                lim = limit_of(r, st, sp)
-                U = self.kappa[r.key] * self.ratio[r.output] * self.sigma(r.output, scales)
-                cols.append(1.0 - U * (1.0 + self.slack.get(r.key, 0.0)) / lim)
-            else:
-                need = r.probability + margins(n, st.design.verify_trials, r.probability)
-                if r.kind == "within":
-                    p = self._p_within(r.output, limit_of(r, st, sp), scales, r.key)
-                else:
-                    p = self._conformity(r, scales)
-                cols.append((p - need) / (1.0 - r.probability))
+        cols = [KINDS[r.kind].constraint(r, self, scales) for r in self.design.study.requirements]
         return np.column_stack(cols) if cols else np.zeros((len(scales), 0))
 
 

@@ -10,6 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from simunc.spec.schema import RequirementKind
 from simunc.uncertainty.statistics import symmetric_interval
 
 
@@ -76,6 +77,109 @@ def limit_of(req, study, setpoint) -> float:
     return req.limit
 
 
+def u_margin(v: np.ndarray, p: float, n_design: int, n_verify: int) -> float:
+    """Search margin of a U requirement [unit of y]: 3 SE(U_p) sqrt(1 + n_design / n_verify)
+    (module docstring of :mod:`simunc.decisions.allocation`)."""
+    return 3.0 * half_length_se(v, p) * math.sqrt(1.0 + n_design / n_verify)
+
+
+class ExpandedUncertainty:
+    """``U_p(y) <= limit``: half-length of the probabilistically symmetric coverage interval
+    (JCGM 101:2008 7.7) at the requirement's probability (the run's when not given)."""
+
+    name: RequirementKind = "expanded_uncertainty"
+
+    @staticmethod
+    def probability(r, p: float) -> float:
+        return r.probability if r.probability > 0 else p
+
+    def evaluate(self, r, y, study, setpoint, p: float, *, trials: int, margin: bool
+                 ) -> tuple[float, float, bool]:
+        v = np.asarray(y[r.output])
+        pr = self.probability(r, p)
+        lo, hi = symmetric_interval(v, pr)
+        value, limit = 0.5 * (hi - lo), limit_of(r, study, setpoint)
+        slack = u_margin(v, pr, trials, study.design.verify_trials) if margin else 0.0
+        return value, limit, value <= limit - slack
+
+    def calibrate(self, r, sur, scale: np.ndarray, y, fig, check: Check) -> None:
+        d = sur.design
+        u = fig.standard_uncertainty[r.output]
+        sur.kappa[r.key] = check.value / u if u > 0 and np.isfinite(check.value) else 1.96
+        v = np.asarray(y[r.output])
+        pr = self.probability(r, d.p)
+        sur.slack[r.key] = (u_margin(v, pr, d.trials, d.study.design.verify_trials) if u > 0
+                            else 0.0) / check.value if check.value > 0 else 0.0
+
+    def constraint(self, r, sur, scales: np.ndarray) -> np.ndarray:
+        st, sp = sur.design.study, sur.design.setpoint
+        lim = limit_of(r, st, sp)
+        U = sur.kappa[r.key] * sur.ratio[r.output] * sur.sigma(r.output, scales)
+        return 1.0 - U * (1.0 + sur.slack.get(r.key, 0.0)) / lim
+
+
+class _Probability:
+    """A requirement ``P(...) >= p`` whose search margin is binomial (:func:`margins`)."""
+
+    def met(self, value: float, limit: float, trials: int, n_verify: int, margin: bool) -> bool:
+        return value >= limit + (margins(trials, n_verify, limit) if margin else 0.0)
+
+    def constraint(self, r, sur, scales: np.ndarray) -> np.ndarray:
+        st = sur.design.study
+        need = r.probability + margins(sur.design.trials, st.design.verify_trials, r.probability)
+        return (self.predicted(r, sur, scales) - need) / (1.0 - r.probability)
+
+    def predicted(self, r, sur, scales: np.ndarray) -> np.ndarray:
+        raise NotImplementedError
+
+
+class Within(_Probability):
+    """``P(|y - centre| <= w) >= p``, the centre a band's or the set-point value."""
+
+    name: RequirementKind = "within"
+
+    def evaluate(self, r, y, study, setpoint, p: float, *, trials: int, margin: bool
+                 ) -> tuple[float, float, bool]:
+        v = np.asarray(y[r.output])
+        value = float(np.mean(np.abs(v - centre_of(r.output, study, setpoint))
+                              <= limit_of(r, study, setpoint)))
+        limit = r.probability
+        return value, limit, self.met(value, limit, trials, study.design.verify_trials, margin)
+
+    def calibrate(self, r, sur, scale: np.ndarray, y, fig, check: Check) -> None:
+        st, sp = sur.design.study, sur.design.setpoint
+        lin = float(sur.sigma(r.output, scale[None, :])[0])
+        sur.ratio[r.key] = sur.matched_ratio(r.output, limit_of(r, st, sp), check.value, lin)
+
+    def predicted(self, r, sur, scales: np.ndarray) -> np.ndarray:
+        st, sp = sur.design.study, sur.design.setpoint
+        return sur.p_within(r.output, limit_of(r, st, sp), scales, r.key)
+
+
+class Conformity(_Probability):
+    """The conformity probability of tolerance bands ``>= p`` (JCGM 106:2012)."""
+
+    name: RequirementKind = "conformity"
+
+    def evaluate(self, r, y, study, setpoint, p: float, *, trials: int, margin: bool
+                 ) -> tuple[float, float, bool]:
+        value, limit = float(np.mean(study.inside(y, r.groups)["all"])), r.probability
+        return value, limit, self.met(value, limit, trials, study.design.verify_trials, margin)
+
+    def calibrate(self, r, sur, scale: np.ndarray, y, fig, check: Check) -> None:
+        pred = float(sur.conformity(r, scale[None, :], raw=True)[0])
+        sur.joint[r.key] = check.value / pred if pred > 0 and np.isfinite(check.value) else 1.0
+
+    def predicted(self, r, sur, scales: np.ndarray) -> np.ndarray:
+        return sur.conformity(r, scales)
+
+
+#: One class per requirement kind: how it is evaluated on trials, how the allocation's
+#: surrogate is calibrated for it and what constraint the surrogate gives.
+KINDS: dict[str, ExpandedUncertainty | Within | Conformity] = {
+    k.name: k for k in (ExpandedUncertainty(), Within(), Conformity())}
+
+
 def check_all(requirements, y, study, setpoint, p: float, *, trials: int, margin: bool = False,
               finite: bool = True) -> list[Check]:
     """Evaluate every requirement on trials ``y`` (a dict of output arrays).
@@ -84,27 +188,11 @@ def check_all(requirements, y, study, setpoint, p: float, *, trials: int, margin
     trials against the study's ``design.verify_trials``).
     """
     out = []
-    nv = study.design.verify_trials
-    se = (lambda q: margins(trials, nv, q)) if margin else (lambda q: 0.0)
     for r in requirements:
         if not finite:
             out.append(Check(r.key, r.text, r.kind, np.nan, np.nan, False, r.output))
             continue
-        if r.kind == "expanded_uncertainty":
-            v = np.asarray(y[r.output])
-            pr = r.probability if r.probability > 0 else p
-            lo, hi = symmetric_interval(v, pr)
-            value, limit = 0.5 * (hi - lo), limit_of(r, study, setpoint)
-            slack = 3.0 * half_length_se(v, pr) * math.sqrt(1.0 + trials / nv) if margin else 0.0
-            met = value <= limit - slack
-        elif r.kind == "within":
-            v = np.asarray(y[r.output])
-            value = float(np.mean(np.abs(v - centre_of(r.output, study, setpoint))
-                                  <= limit_of(r, study, setpoint)))
-            limit = r.probability
-            met = value >= limit + se(limit)
-        else:
-            value, limit = float(np.mean(study.inside(y, r.groups)["all"])), r.probability
-            met = value >= limit + se(limit)
+        value, limit, met = KINDS[r.kind].evaluate(r, y, study, setpoint, p, trials=trials,
+                                                   margin=margin)
         out.append(Check(r.key, r.text, r.kind, float(value), float(limit), bool(met), r.output))
     return out

@@ -821,7 +821,7 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
         solve_for=solve_for, unknowns=unknowns, bands=bands, inputs=inputs, run=run,
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
         correlation=correlation, requirements=requirements, sweeps=sweeps, sensitivity=sens,
-        design=design, path=path, sha256=sha256, raw=data,
+        design=design, path=path, sha256=sha256,
     )
 
 

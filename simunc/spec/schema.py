@@ -9,22 +9,39 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Literal
 
 import numpy as np
 
+from simunc.physics.dimensional import PiGroup
 from simunc.physics.fluids import AIR, Fluid
-from simunc.spec.catalogue import output_key
+from simunc.spec.catalogue import CustomGroup, output_key
 from simunc.uncertainty.correlation import Correlation
 from simunc.units import Parsed
 
-DISTRIBUTIONS = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
+#: Kinds written in a study (each a closed vocabulary, checked by the readers).
+FacilityKind = Literal["gas", "liquid"]
+FullScaleGiven = Literal["mach", "speed"]
+MachFrom = Literal["pressure_ratio", "indication"]
+Distribution = Literal["normal", "rectangular", "triangular", "trapezoidal", "arcsine",
+                       "truncated_normal", "lognormal"]
+SizeKind = Literal["standard_uncertainty", "expanded_uncertainty", "half_width", "accuracy",
+                   "resolution", "type_a"]
+Component = Literal["systematic", "random"]
+Sampling = Literal["random", "lhs", "sobol"]
+RequirementKind = Literal["expanded_uncertainty", "within", "conformity"]
+CostKind = Literal["power", "grades"]
+Spacing = Literal["linear", "log"]
+ShapleyMode = Literal["auto", "yes", "no"]
+
+DISTRIBUTIONS: dict[str, Distribution] = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
                  "uniform": "rectangular", "triangular": "triangular",
                  "trapezoidal": "trapezoidal", "trapezoid": "trapezoidal", "arcsine": "arcsine",
                  "u_shaped": "arcsine", "truncated_normal": "truncated_normal",
                  "lognormal": "lognormal"}
 #: Ways of writing the size of an input -> the distributions each accepts (the first is the
 #: default when ``distribution`` is not given).
-SIZE_DISTRIBUTIONS = {
+SIZE_DISTRIBUTIONS: dict[str, tuple[Distribution, ...]] = {
     "standard_uncertainty": ("normal", "rectangular", "triangular", "trapezoidal", "arcsine",
                              "lognormal", "truncated_normal"),
     "expanded_uncertainty": ("normal", "rectangular", "triangular", "trapezoidal", "arcsine"),
@@ -34,8 +51,8 @@ SIZE_DISTRIBUTIONS = {
     "readings": ("normal",),
     "type_a": ("normal",),
 }
-COMPONENTS = ("systematic", "random")
-MACH_FROM = ("pressure_ratio", "indication")
+COMPONENTS: tuple[Component, ...] = ("systematic", "random")
+MACH_FROM: tuple[MachFrom, ...] = ("pressure_ratio", "indication")
 
 #: ``match.solve_for`` names -> model keys, by facility kind.
 SOLVE_NAMES = {
@@ -48,7 +65,7 @@ SOLVE_NAMES = {
 }
 #: Default priority of a matched group (lower is matched first).
 DEFAULT_PRIORITY = {"mach": 1, "froude": 1}
-SAMPLING = ("random", "lhs", "sobol")
+SAMPLING: tuple[Sampling, ...] = ("random", "lhs", "sobol")
 
 
 #: Targets that are conditions or property models, not facility instruments or controls: they
@@ -56,7 +73,7 @@ SAMPLING = ("random", "lhs", "sobol")
 UNCONTROLLED_TARGETS = ("full_scale_temperature", "full_scale_speed", "full_scale_mach",
                         "full_scale_frequency", "viscosity_model", "density_model",
                         "sutherland_constant")
-REQUIREMENT_KINDS = ("expanded_uncertainty", "within", "conformity")
+REQUIREMENT_KINDS: tuple[RequirementKind, ...] = ("expanded_uncertainty", "within", "conformity")
 
 
 @dataclass(frozen=True)
@@ -73,9 +90,9 @@ class Requirement:
     """
 
     key: str
-    kind: str
+    kind: RequirementKind
     output: str | None
-    groups: tuple
+    groups: tuple[str, ...]
     limit: float
     relative: bool
     probability: float
@@ -91,10 +108,10 @@ class CostModel:
     ``kind = "grades"``: a list of ``(name, U [Parsed, k = 2], price)``: one is chosen.
     """
 
-    kind: str
+    kind: CostKind
     at_written: float = 0.0
     exponent: float = 1.0
-    grades: tuple = ()
+    grades: tuple[tuple[str, Parsed, float, str], ...] = ()
     key: str = ""
 
 
@@ -103,17 +120,17 @@ class Sweep:
     """A tolerance sweep of one or two inputs (scales from ``scale[0]`` to ``scale[1]``)."""
 
     key: str
-    inputs: tuple
-    scale: tuple
+    inputs: tuple[str, ...]
+    scale: tuple[float, float]
     points: int
-    spacing: str = "linear"
+    spacing: Spacing = "linear"
 
 
 @dataclass(frozen=True)
 class SensitivitySettings:
     second_order: bool = False
-    groups: dict = field(default_factory=dict)
-    shapley: str = "auto"  # "auto" (when inputs are correlated), "yes", "no"
+    groups: dict[str, tuple[str, ...]] = field(default_factory=dict)
+    shapley: ShapleyMode = "auto"  # "auto": when inputs are correlated
 
 
 @dataclass(frozen=True)
@@ -131,7 +148,7 @@ class FullScale:
 
     static_pressure: float
     static_temperature: float
-    given: str  # "mach" or "speed"
+    given: FullScaleGiven
     value: float
     reference_length: float
     altitude: float | None = None
@@ -148,21 +165,21 @@ class Facility:
     """Facility description in SI (``None``: not given)."""
 
     name: str
-    fluids: tuple
-    kind: str  # "gas" or "liquid"
+    fluids: tuple[Fluid, ...]
+    kind: FacilityKind
     stagnation_temperature: float | None = None
-    stagnation_temperature_range: tuple | None = None
+    stagnation_temperature_range: tuple[float, float] | None = None
     stagnation_pressure: float | None = None
-    stagnation_pressure_range: tuple | None = None
+    stagnation_pressure_range: tuple[float, float] | None = None
     mach: float | None = None
-    mach_range: tuple = (0.0, 1.0)
-    mach_from: str = "pressure_ratio"
+    mach_range: tuple[float, float] = (0.0, 1.0)
+    mach_from: MachFrom = "pressure_ratio"
     speed: float | None = None
-    speed_range: tuple | None = None
+    speed_range: tuple[float, float] | None = None
     static_pressure: float | None = None
-    static_pressure_range: tuple | None = None
+    static_pressure_range: tuple[float, float] | None = None
     temperature: float | None = None
-    temperature_range: tuple | None = None
+    temperature_range: tuple[float, float] | None = None
     max_model_reference_length: float | None = None
     test_section_area: float | None = None
     max_blockage: float | None = None
@@ -278,15 +295,15 @@ class InputSpec:
 
     name: str
     target: str
-    distribution: str
-    size_kind: str
+    distribution: Distribution
+    size_kind: SizeKind
     size: Parsed
     coverage_factor: float
     text: str
     note: str
     key: str
-    targets: tuple = ()
-    component: str = "systematic"
+    targets: tuple[str, ...] = ()
+    component: Component = "systematic"
     dof: float = math.inf
     beta: float | None = None
     limit: Parsed | None = None
@@ -294,7 +311,7 @@ class InputSpec:
     count: int | None = None
     coverage_probability: float | None = None
     controllable: bool = True
-    cost: object = None  # simunc.spec.schema.CostModel or None
+    cost: CostModel | None = None
 
     def __post_init__(self) -> None:
         if not self.targets:
@@ -309,7 +326,7 @@ class RunSettings:
     seed: int = 1
     coverage_probability: float = 0.95
     sobol_base_samples: int = 4096
-    sampling: str = "random"
+    sampling: Sampling = "random"
     significant_digits: int = 2
     max_trials: int = 10_000_000
 
@@ -322,12 +339,12 @@ class RunSettings:
 class DimensionalAnalysis:
     """Variables (name -> unit text) for a Buckingham Pi analysis, and repeating ones."""
 
-    variables: dict
-    repeating: tuple | None
-    groups: tuple = ()
+    variables: dict[str, str]
+    repeating: tuple[str, ...] | None
+    groups: tuple[PiGroup, ...] = ()
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class Study:
     """A validated study, all values in SI."""
 
@@ -337,23 +354,22 @@ class Study:
     facility: Facility
     model_scale: float | None
     model_reference_length: float | None
-    solve_for: tuple
-    unknowns: tuple
-    bands: tuple
-    inputs: tuple
+    solve_for: tuple[str, ...]        # match.solve_for as written
+    unknowns: tuple[str, ...]         # model keys solved (solve_for and the implied ones)
+    bands: tuple[Band, ...]
+    inputs: tuple[InputSpec, ...]
     run: RunSettings
     model_frequency: float | None = None
-    custom_groups: tuple = ()
+    custom_groups: tuple[CustomGroup, ...] = ()
     dimensional_analysis: DimensionalAnalysis | None = None
     #: None, or the correlation of the inputs, in [[uncertain]] order (``[correlations]``).
     correlation: Correlation | None = field(default=None, compare=False)
-    requirements: tuple = ()          # planning_spec.Requirement
-    sweeps: tuple = ()                # planning_spec.Sweep
+    requirements: tuple[Requirement, ...] = ()
+    sweeps: tuple[Sweep, ...] = ()
     sensitivity: SensitivitySettings = field(default_factory=SensitivitySettings)
     design: DesignSettings = field(default_factory=DesignSettings)
     path: str = ""
     sha256: str = ""
-    raw: dict = field(default_factory=dict, repr=False, compare=False)
 
     def band(self, group: str) -> Band | None:
         return next((b for b in self.bands if b.group == group), None)
@@ -372,5 +388,5 @@ class Study:
         return out
 
     @property
-    def kind(self) -> str:
+    def kind(self) -> FacilityKind:
         return self.facility.kind

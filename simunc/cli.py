@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+from typing import TYPE_CHECKING
 
 from simunc import __version__
 from simunc.errors import (
@@ -19,6 +20,9 @@ from simunc.errors import (
     SimuncError,
     StudyError,
 )
+
+if TYPE_CHECKING:
+    from simunc.pipeline import Part  # imported on first use at run time (start-up time)
 
 
 class _Parser(argparse.ArgumentParser):
@@ -128,11 +132,12 @@ def _run(args) -> int:
 
     check_out_dir(args.out)
     study = load_study(args.study)
-    parts, extra = {"run": ("requirements", "sweeps"), "rank": (), "sweep": ("sweeps",),
-                    "allocate": ("requirements",)}[args.command], ()
+    parts_of: dict[str, tuple[Part, ...]] = {"run": ("requirements", "sweeps"), "rank": (),
+                                             "sweep": ("sweeps",), "allocate": ("requirements",)}
+    parts, extra = parts_of[args.command], ()
     if args.command == "allocate" and not study.requirements:
         raise StudyError("requirement", "no [[requirement]] tables", "at least one requirement "
-                         "for 'simunc allocate' (see the README)")
+                         "for 'simunc allocate' (see docs/study-file.md)")
     if args.command == "sweep":
         extra = _cli_sweeps(args, study)
     result = run(study, trials=args.trials, seed=args.seed, parts=parts, extra_sweeps=extra)

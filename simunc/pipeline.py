@@ -12,9 +12,9 @@ This is the Python API behind ``simunc run``::
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
-from typing import Literal
+from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
@@ -32,7 +32,7 @@ from simunc.similitude.model import SimilitudeModel, trial_problems
 from simunc.similitude.setpoint import SetPoint, build_model, solve
 from simunc.similitude.testplan import TestPlan, plan
 from simunc.spec.catalogue import describe_output
-from simunc.spec.schema import RunSettings, Study, Sweep
+from simunc.spec.schema import Band, RunSettings, Study, Sweep
 from simunc.uncertainty.lpu import LPUResult, lpu, validate
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
@@ -93,6 +93,7 @@ class Result:
         if self.input_values is None:
             raise StudyError("--samples", f"{self.trials} trials", f"at most {KEEP_LIMIT} trials "
                              "with fixed trials (larger runs stream and keep no trials)")
+        assert self.output_values is not None  # kept together with the input values
         cols = {f"input: {i.name}": self.input_values[:, j] for j, i in enumerate(self.inputs)}
         cols.update({k: np.asarray(v) for k, v in self.output_values.items()})
         return pd.DataFrame(cols)
@@ -121,7 +122,8 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
     """
     rows = []
     for inp in inputs:
-        row = {"input": inp.name, "perturbs": ", ".join(t for t, _ in inp.effects)}
+        row: dict[str, str | float] = {"input": inp.name,
+                                       "perturbs": ", ".join(t for t, _ in inp.effects)}
         shares = []
         for band in study.bands:
             st = float(max(sobol[band.output].loc[inp.name, "ST"], 0.0))
@@ -163,7 +165,7 @@ class TrialMonitor:
         self.preview: list[np.ndarray] = []
         self._kept = 0
 
-    def __call__(self, x: np.ndarray, y: dict[str, np.ndarray]) -> None:
+    def __call__(self, x: np.ndarray, y: Mapping[str, np.ndarray]) -> None:
         n = len(next(iter(y.values())))
         reasons = trial_problems(y, self.model)
         if reasons:
@@ -221,7 +223,8 @@ def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
         for term, row in bud.iterrows():
             if row["kind"] == "correlation":
                 a, b = term[2:-1].split(", ", 1)
-                key = comp.get(a) if comp.get(a) == comp.get(b) else "mixed"
+                # a and b are input names (the budget's correlation terms are between inputs)
+                key = cast(str, comp.get(a)) if comp.get(a) == comp.get(b) else "mixed"
             else:
                 key = comp.get(term, "systematic")
             part[key] += float(row["contribution"])
@@ -271,8 +274,9 @@ def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
         Trials and seed replacing the study's ``[run]`` values.
     """
     o = overrides or Overrides()
-    settings = replace(study.run, **{k: v for k, v in (("trials", o.trials), ("seed", o.seed))
-                                     if v is not None})
+    changes: dict[str, Any] = {k: v for k, v in (("trials", o.trials), ("seed", o.seed))
+                               if v is not None}
+    settings = replace(study.run, **changes)
     setpoint = solve(study)
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
     inputs = tuple(build_inputs(study.inputs, setpoint))
@@ -305,12 +309,14 @@ def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
                          coverage_probability=p, method=settings.sampling, correlation=correlation,
                          max_trials=settings.max_trials,
                          outputs=[b.output for b in study.bands] if prep.inputs else None)
+        assert probe.adaptive is not None  # adaptive() always reports its batches
         res = propagate(problem, probe.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=probe.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor,
                         block_size=probe.adaptive.batch_size)
         res = replace(res, adaptive=probe.adaptive)
     else:
+        assert settings.trials is not None  # not adaptive: a fixed number of trials
         res = propagate(problem, settings.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=settings.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor)
@@ -438,8 +444,8 @@ def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
             assert gum.lpu is not None
             cov = gum.lpu.input_correlation * np.outer(gum.lpu.input_uncertainties,
                                                        gum.lpu.input_uncertainties)
-            needed = {r.output for r in study.requirements if r.output} | {
-                study.band(g).output for r in study.requirements for g in r.groups}
+            needed = {r.output for r in study.requirements if r.output} | {  # groups: matched ones
+                cast(Band, study.band(g)).output for r in study.requirements for g in r.groups}
             coefficients = _sensitivities(gum.lpu, problem, correlation, needed)
             try:
                 allocation = allocate(design, inputs, coefficients, cov, verify_design)

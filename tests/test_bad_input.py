@@ -119,6 +119,7 @@ def test_bad_cli_trials(capsys, tmp_path):
     assert "--trials" in capsys.readouterr().err
 
 
+@pytest.mark.slow
 def test_no_traceback_and_exit_code_from_console(write_study, demo_text, tmp_path):
     """The installed entry point path: a real process, exit 2, one line, no traceback, no report."""
     path = write_study(_edit(demo_text, "prange", 'stagnation_pressure_range = ["3 kg", "9 bar"]'))

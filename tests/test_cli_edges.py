@@ -48,6 +48,7 @@ def test_trials_without_a_real_mach_number_are_bad_input(write_study, tmp_path, 
     assert not (tmp_path / "r").exists()
 
 
+@pytest.mark.slow
 def test_study_without_uncertain_inputs_runs(write_study, tmp_path, capsys, demo_text):
     text = demo_text[: demo_text.index("[[uncertain]]")]
     code, io = _run(write_study(text), tmp_path / "r", capsys, "--trials", "500")
@@ -75,6 +76,7 @@ def test_malformed_values_rejected(old, new, key, demo_text, write_study, capsys
     assert code == 2 and key in err
 
 
+@pytest.mark.slow
 def test_sample_columns_do_not_clash_and_stale_files_go(demo_text, write_study, tmp_path, capsys):
     text = demo_text.replace('"T0 thermometer"', '"speed"')
     path, out = write_study(text), tmp_path / "r"

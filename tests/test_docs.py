@@ -448,6 +448,7 @@ def demo_results() -> dict:
     return results_dict(simunc.run(study, trials=2000, seed=1))
 
 
+@pytest.mark.slow
 def test_results_json_keys_match_the_documented_schema(demo_results):
     tree, _ = parse_schema(schema_listing(RESULTS_DOC.read_text()))
     # The demo writes every object the listing spells out below (so the comparison reaches them).

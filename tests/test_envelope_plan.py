@@ -94,6 +94,7 @@ def test_split_plan_runs_and_extrapolation_ratio():
     assert any("extrapolation ratio" in n for n in tp.notes)
 
 
+@pytest.mark.slow
 def test_split_plan_run_c_when_reynolds_reachable_at_lower_mach():
     # 1:16 model, p0 capped at 7 bar: Re_full needs 7.44 bar at Mach 0.78 (hand), but at 7 bar a
     # higher Mach number reaches it (Re grows with M): run C matches Re at Ma > 0.78.

@@ -218,6 +218,7 @@ def demo_result():
     return simunc.run(study, trials=20_000, seed=5)
 
 
+@pytest.mark.slow
 def test_demo_allocation_is_confirmed_and_fails_when_loosened(demo_result):
     a = demo_result.allocation
     assert a is not None and not a.message
@@ -232,6 +233,7 @@ def test_demo_allocation_is_confirmed_and_fails_when_loosened(demo_result):
         "Sutherland viscosity model", "full-scale day temperature"}
 
 
+@pytest.mark.slow
 def test_demo_tightening_puts_conditions_last(demo_result):
     t = demo_result.tightening
     flags = list(t["controllable"])
@@ -240,6 +242,7 @@ def test_demo_tightening_puts_conditions_last(demo_result):
     assert demo_result.shapley is not None  # the demo correlates two transducers
 
 
+@pytest.mark.slow
 def test_results_json_has_the_decision_sections(demo_result, tmp_path):
     import json
     simunc.write_report(demo_result, tmp_path)
@@ -307,6 +310,7 @@ def test_bad_cost_models_name_the_key(demo_dict):
     assert exc.value.key == "uncertain[8].controllable"
 
 
+@pytest.mark.slow
 def test_cli_commands(tmp_path, capsys, demo_text, write_study):
     path = write_study(demo_text)
     assert main(["allocate", str(path), "--out", str(tmp_path / "a"), "--trials", "2000"]) == 0
@@ -328,6 +332,7 @@ def test_cli_commands(tmp_path, capsys, demo_text, write_study):
     assert "requirement" in capsys.readouterr().err
 
 
+@pytest.mark.slow
 def test_control_excursion_past_a_facility_limit_is_flagged(demo_result):
     from simunc.decisions.allocation import control_excursions
     inputs, sp = demo_result.inputs, demo_result.setpoint
@@ -379,6 +384,7 @@ def test_conformity_of_one_group_and_within_on_another_output():
     assert table.loc["a", "largest_scale"] == pytest.approx(expected, rel=0.05)
 
 
+@pytest.mark.slow
 def test_cancelling_correlated_errors_are_not_reported_unreachable(demo_full_dict):
     # A U requirement on the Mach difference that the written tolerances meet: halving or
     # removing one of the two correlated transducers breaks the cancellation, yet each can be
@@ -398,6 +404,7 @@ def test_cancelling_correlated_errors_are_not_reported_unreachable(demo_full_dic
     assert lim.loc["p0 transducer calibration", "largest_scale"] > 1.0
 
 
+@pytest.mark.slow
 def test_non_physical_sweep_points_are_flagged(demo_result):
     study = demo_result.study
     prep = simunc.prepare(study)
@@ -413,6 +420,7 @@ def test_non_physical_sweep_points_are_flagged(demo_result):
     assert not fig.finite and fig.problems and not fig.met()
 
 
+@pytest.mark.slow
 def test_requirement_no_tolerance_can_meet_gives_no_table(tmp_path):
     text = open("studies/saltmarsh_towing_tank.toml").read()
     text += '\n[[requirement]]\ngroup = "reynolds"\nwithin = "5 %"\nprobability = "95 %"\n'
@@ -432,6 +440,7 @@ def test_requirement_no_tolerance_can_meet_gives_no_table(tmp_path):
     assert "No instrument-requirements table" in md and "Not achievable at this set point" in md
 
 
+@pytest.mark.slow
 def test_relative_grade_is_a_fraction_of_the_reading(demo_result):
     from simunc.decisions.allocation import grade_scale
     inp = next(i for i in demo_result.inputs if i.name == "p0 transducer calibration")
@@ -453,6 +462,7 @@ def test_requirement_on_an_output_the_model_does_not_form(demo_dict, tmp_path, c
         "expected")[1]
 
 
+@pytest.mark.slow
 def test_tightening_uses_the_dependence_aware_index_with_correlations(demo_result):
     # the demo correlates two transducers: "variance removed if known exactly" is the full
     # first-order index Var(E[y | x_i]) / Var(y) of the Shapley analysis (Song, Nelson & Staum

@@ -23,6 +23,8 @@ from simunc.units import Parsed
 
 from .conftest import DEMO
 
+pytestmark = pytest.mark.slow  # every test here runs the whole demo
+
 
 @pytest.fixture(scope="module")
 def demo_run(tmp_path_factory):

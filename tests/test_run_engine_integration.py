@@ -19,6 +19,8 @@ from simunc.pipeline import prepare
 
 from .conftest import DEMO
 
+pytestmark = pytest.mark.slow  # every test here runs the whole demo
+
 
 @pytest.fixture(scope="module")
 def study():

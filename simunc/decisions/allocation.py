@@ -39,6 +39,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 from itertools import product
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -50,6 +51,9 @@ from simunc.decisions.requirements import (
     SCREEN,
     centre_of,
 )
+
+if TYPE_CHECKING:
+    from simunc.decisions.design import Design
 
 #: Grade combinations the allocation enumerates at most, and design-sample checks at most.
 MAX_COMBINATIONS, MAX_CHECKS = 200_000, 150
@@ -154,7 +158,7 @@ class Surrogate:
     probability to the product of the normal ones.
     """
 
-    design: object
+    design: Design
     sens: dict          # output -> c (d,)
     cov: np.ndarray     # input covariance V (d, d)
     ratio: dict = field(default_factory=dict)    # output or requirement key -> sigma / sigma_lin
@@ -373,6 +377,7 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
                     "of a requirement were not checked on the design sample; a cheaper passing "
                     "combination among them is possible for a strongly non-normal output")
         cost_written, rounds = None, checked
+    assert scale is not None  # each branch ends with a scale (all NaN when none was found)
     ok = bool(np.all(np.isfinite(scale)))
     design_checks = design.figures(scale, margin=False).requirements if ok else []
     verification = loosened = []

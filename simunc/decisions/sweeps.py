@@ -8,21 +8,21 @@ import numpy as np
 import pandas as pd
 
 from simunc.decisions.design import Design, Figures
+from simunc.spec.schema import Spacing
 
 
-@dataclass
+@dataclass(frozen=True, kw_only=True)
 class SweepResult:
     """A tolerance sweep: ``table`` has one row per point (scales, then the figures)."""
 
     key: str
-    inputs: tuple
-    scales: tuple          # one array of scales per swept input
-    spacing: str
+    inputs: tuple[str, ...]
+    scales: tuple[np.ndarray, ...]    # one array of scales per swept input
+    spacing: Spacing
     table: pd.DataFrame
-    baseline: Figures
 
 
-def sweep_scales(low: float, high: float, points: int, spacing: str) -> np.ndarray:
+def sweep_scales(low: float, high: float, points: int, spacing: Spacing) -> np.ndarray:
     """Scale values of a sweep (``log`` spacing needs ``low > 0``; 1 is added when inside).
 
     >>> sweep_scales(0.5, 2.0, 4, "linear").tolist()
@@ -51,7 +51,7 @@ def _row(fig: Figures, design: Design) -> dict:
 
 
 def sweep(design: Design, key: str, inputs, low: float, high: float, points: int,
-          spacing: str = "linear") -> SweepResult:
+          spacing: Spacing = "linear") -> SweepResult:
     """Scale the tolerance of one input (a line) or two (a grid) on the design sample.
 
     Every other input stays as written.  Returns the expanded uncertainty
@@ -68,5 +68,5 @@ def sweep(design: Design, key: str, inputs, low: float, high: float, points: int
         scale[idx] = point
         fig = design.figures(scale)
         rows.append({f"scale: {n}": v for n, v in zip(inputs, point)} | _row(fig, design))
-    return SweepResult(key, tuple(inputs), tuple(s for _ in idx), spacing, pd.DataFrame(rows),
-                       design.figures(design.ones()))
+    return SweepResult(key=key, inputs=tuple(inputs), scales=tuple(s for _ in idx),
+                       spacing=spacing, table=pd.DataFrame(rows))

@@ -10,10 +10,14 @@ import pandas as pd
 
 @dataclass(frozen=True)
 class Block:
-    """``kind`` is one of heading, paragraph, table, figure, bullets."""
+    """``kind`` is one of heading, paragraph, table, figure, bullets.
+
+    ``content`` is the text (heading, paragraph), the file name (figure), the items
+    (bullets) or the formatted table (table).
+    """
 
     kind: str
-    content: object
+    content: str | list[str] | pd.DataFrame
     level: int = 2
     caption: str = ""
 
@@ -26,7 +30,7 @@ def fmt(v) -> str:
     if isinstance(v, (float, np.floating)):
         if not np.isfinite(v):
             return "n/a"
-        if abs(v) < 1e-13:
+        if np.abs(v) < 1e-13:
             return "0"
         return f"{v:.6g}"
     return str(v)

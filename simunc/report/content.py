@@ -149,7 +149,7 @@ def build(result) -> list[Block]:
         b.append(Block("heading", "Split-test plan"))
         b.append(Block("paragraph", f"The facility cannot match the Reynolds number with the "
                        f"{tp.primary.capitalize()} number matched. Runs that bracket the full-scale condition:"))
-        rows = []
+        run_rows = []
         for r in tp.runs:
             row = {"run": r.label, "purpose": r.purpose}
             for k in ("stagnation_pressure", "stagnation_temperature", "mach", "speed",
@@ -159,8 +159,8 @@ def build(result) -> list[Block]:
             row["reynolds_ratio"] = r.outputs["reynolds_ratio"]
             key = "mach_difference" if tp.primary == "mach" else f"{tp.primary}_ratio"
             row[key] = r.outputs[key]
-            rows.append(row)
-        b.append(Block("table", _table(pd.DataFrame(rows))))
+            run_rows.append(row)
+        b.append(Block("table", _table(pd.DataFrame(run_rows))))
         b.append(Block("bullets", list(tp.notes)))
 
     if result.pi_groups:
@@ -173,13 +173,13 @@ def build(result) -> list[Block]:
 
     b.append(Block("heading", "Uncertain inputs"))
     if result.inputs:
-        rows = [(i.name, ", ".join(t for t, _ in i.effects), f"{i.kind} ({i.component})",
+        input_rows = [(i.name, ", ".join(t for t, _ in i.effects), f"{i.kind} ({i.component})",
                  f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"
                  + (f" (k = {i.spec.coverage_factor:g})" if i.spec.size_kind == "expanded_uncertainty" else ""),
                  i.standard_uncertainty, i.unit)
                 for i in result.inputs]
         b.append(Block("table", _table(pd.DataFrame(
-            rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"]))))
+            input_rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"]))))
         b.append(Block("paragraph", "Measurement model: true value = set point - indication error "
                        "+ control deviation; a size in % is a fraction of the reading at the set point."))
     else:
@@ -212,11 +212,11 @@ def build(result) -> list[Block]:
                    f"sampling, {how}; "
                    + ("exact sample quantiles" if result.output_values is not None
                       else "quantiles from the streaming histogram") + ")."))
-    rows = [(band.group, band.output, f"±{band.tolerance:.6g} about {band.centre:g}",
-             fmt(100 * conf[band.group]) + " %") for band in st.bands]
-    rows.append(("all matched groups", "", "", fmt(100 * conf["all"]) + " %"))
+    band_rows = [(band.group, band.output, f"±{band.tolerance:.6g} about {band.centre:g}",
+                  fmt(100 * conf[band.group]) + " %") for band in st.bands]
+    band_rows.append(("all matched groups", "", "", fmt(100 * conf["all"]) + " %"))
     b.append(Block("paragraph", "Conformity probability (share of trials inside the band):"))
-    b.append(Block("table", pd.DataFrame(rows, columns=["group", "output", "band", "probability"])))
+    b.append(Block("table", pd.DataFrame(band_rows, columns=["group", "output", "band", "probability"])))
     b.append(Block("figure", "reynolds_ratio_histogram.png",
                    caption="Achieved Reynolds-number ratio: trials, tolerance band, coverage interval."))
 

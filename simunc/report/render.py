@@ -5,8 +5,12 @@ from __future__ import annotations
 import base64
 import html
 import re
+from typing import TYPE_CHECKING, cast
 
 from simunc.report.content import Block
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 _CSS = """
 body{font-family:system-ui,-apple-system,Segoe UI,sans-serif;max-width:1000px;margin:2em auto;
@@ -28,7 +32,7 @@ def markdown(blocks: list[Block]) -> str:
         elif b.kind == "bullets":
             out.append("\n".join(f"- {x}" for x in b.content))
         elif b.kind == "table":
-            cells = b.content.map(lambda v: str(v).replace("|", "\\|"))
+            cells = cast("pd.DataFrame", b.content).map(lambda v: str(v).replace("|", "\\|"))
             out.append(cells.to_markdown(index=False))
         elif b.kind == "figure":
             out.append(f"![{b.caption}]({b.content})\n\n*{b.caption}*")
@@ -51,9 +55,9 @@ def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
         elif b.kind == "bullets":
             out.append("<ul>" + "".join(f"<li>{_inline(str(x))}</li>" for x in b.content) + "</ul>")
         elif b.kind == "table":
-            out.append(b.content.to_html(index=False, border=0, escape=True))
+            out.append(cast("pd.DataFrame", b.content).to_html(index=False, border=0, escape=True))
         elif b.kind == "figure" and b.content in figures:
-            data = base64.b64encode(figures[b.content]).decode("ascii")
+            data = base64.b64encode(figures[cast(str, b.content)]).decode("ascii")
             out.append(f'<figure><img alt="{html.escape(b.caption)}" src="data:image/png;base64,{data}">'
                        f"<figcaption>{html.escape(b.caption)}</figcaption></figure>")
     out.append("</body></html>")

@@ -1,4 +1,4 @@
-"""The ``results.json`` document (schema documented in the README)."""
+"""The ``results.json`` document (schema in docs/results-json.md, checked by tests/test_docs.py)."""
 
 from __future__ import annotations
 

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import warnings
 from dataclasses import dataclass
+from typing import cast
 
 import numpy as np
 
@@ -44,19 +45,21 @@ class Envelope:
 
     abscissa: str
     x: np.ndarray
-    bands: dict
-    target: tuple
-    setpoint: tuple
+    bands: dict[str, tuple[float, np.ndarray, np.ndarray]]
+    target: tuple[float, float]
+    setpoint: tuple[float, float]
 
 
 def _grid(study: Study):
     fac = study.facility
     if fac.kind == "gas":
         lo, hi = max(fac.mach_range[0], 0.02), min(fac.mach_range[1], 0.99)
-        tr = fac.stagnation_temperature_range or (fac.stagnation_temperature,) * 2
+        # the readers require the temperature, or its range when it is solved for
+        tr = fac.stagnation_temperature_range or cast(
+            "tuple[float, float]", (fac.stagnation_temperature,) * 2)
         return "mach", np.linspace(lo, hi, _N_X), np.linspace(tr[0], tr[1], _N_T if tr[0] < tr[1] else 1)
     lo, hi = fac.speed_range or (0.1 * _target_speed(study), 2.0 * _target_speed(study))
-    tr = fac.temperature_range or (fac.temperature,) * 2
+    tr = fac.temperature_range or cast("tuple[float, float]", (fac.temperature,) * 2)
     return "speed", np.linspace(lo, hi, _N_X), np.linspace(tr[0], tr[1], _N_T if tr[0] < tr[1] else 1)
 
 
@@ -78,6 +81,7 @@ def reynolds_band(study: Study, model: SimilitudeModel, length: float) -> tuple[
     base["model_length"] = length
     if kind == "mach":
         pr = fac.stagnation_pressure_range
+        assert pr is not None  # the reader requires it of a gas facility
         m, t0, p0 = np.meshgrid(xs, temps, np.array(pr), indexing="ij")
         state = dict(base, mach=m, stagnation_temperature=t0, stagnation_pressure=p0)
         out = model(state)

@@ -49,6 +49,7 @@ absolute size of a common dimension 1).
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -58,7 +59,7 @@ from simunc.errors import StudyError
 from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import SetPoint
 from simunc.spec.catalogue import TARGETS
-from simunc.spec.schema import InputSpec
+from simunc.spec.schema import Component, InputSpec
 from simunc.uncertainty.distributions import (
     BOUNDED,
     bounded,
@@ -68,7 +69,7 @@ from simunc.uncertainty.distributions import (
     truncated_normal_std,
     u_per_half_width,
 )
-from simunc.uncertainty.problem import Problem
+from simunc.uncertainty.problem import FrozenDistribution, Problem
 
 
 @dataclass(frozen=True)
@@ -107,12 +108,12 @@ class UncertainInput:
 
     name: str
     target: str
-    distribution: object
+    distribution: FrozenDistribution
     kind: str
     standard_uncertainty: float
     spec: InputSpec
-    effects: tuple = ()
-    component: str = "systematic"
+    effects: tuple[tuple[str, float], ...] = ()
+    component: Component = "systematic"
     dof: float = math.inf
     gum_standard_uncertainty: float | None = None
     reading: float | None = None
@@ -249,7 +250,7 @@ def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
     """
     nominal = dict(setpoint.nominal)
 
-    def func(x):
+    def func(x: Mapping[str, np.ndarray]) -> dict[str, np.ndarray]:
         deviations: dict[str, np.ndarray] = {}
         for inp in inputs:
             v = x[inp.name]

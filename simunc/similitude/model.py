@@ -31,14 +31,15 @@ and temperature.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Mapping
+from typing import Mapping, cast
 
 import numpy as np
 
 from simunc.constants import STANDARD_GRAVITY
 from simunc.physics import flow, groups
-from simunc.physics.fluids import Fluid
-from simunc.spec.catalogue import GROUPS, TARGETS, formed_groups
+from simunc.physics.fluids import Fluid, GasModel
+from simunc.spec.catalogue import GROUPS, TARGETS, CustomGroup, formed_groups
+from simunc.spec.schema import FullScaleGiven, MachFrom
 
 
 @dataclass(frozen=True)
@@ -62,9 +63,9 @@ class SimilitudeModel:
 
     fluid: Fluid
     full_scale_fluid: Fluid
-    mach_from: str = "pressure_ratio"
-    full_scale_given: str = "mach"
-    custom_groups: tuple = field(default=())
+    mach_from: MachFrom = "pressure_ratio"
+    full_scale_given: FullScaleGiven = "mach"
+    custom_groups: tuple[CustomGroup, ...] = field(default=())
 
     @property
     def kind(self) -> str:
@@ -82,6 +83,7 @@ class SimilitudeModel:
         f = self.fluid
         params = self._fluid_params(f, x, d)
         if f.kind == "gas":
+            f = cast(GasModel, f)  # a fluid of kind "gas" implements GasModel
             p0_set = np.asarray(x["stagnation_pressure"], dtype=float)
             t0_set = np.asarray(x["stagnation_temperature"], dtype=float)
             mach_set = np.asarray(x["mach"], dtype=float)

@@ -25,6 +25,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
+from typing import Any
 
 import numpy as np
 from scipy.optimize import least_squares
@@ -154,6 +155,7 @@ def bounds(study: Study, key: str) -> tuple[float, float]:
     """Facility bounds of a model key (SI); wide where the facility states none."""
     fac, fs = study.facility, study.full_scale
     if key == "stagnation_pressure":
+        assert fac.stagnation_pressure_range is not None  # the reader requires it of a gas facility
         return fac.stagnation_pressure_range
     if key == "stagnation_temperature":
         return fac.stagnation_temperature_range or (1.0, 1.0e4)
@@ -211,8 +213,8 @@ def _residuals(model: SimilitudeModel, bands: list[Band], state: dict, q_max: fl
     if q_max is not None:
         q = float(np.asarray(out["dynamic_pressure"]))
         r.append(PRIORITY_WEIGHT ** len(levels) * 1e3 * max(0.0, math.log(q / q_max)))
-    r = np.array(r)
-    return np.where(np.isfinite(r), r, 1e9), out
+    residuals = np.array(r)
+    return np.where(np.isfinite(residuals), residuals, 1e9), out
 
 
 def _solve_one(model: SimilitudeModel, base: dict, keys: list[str],
@@ -240,6 +242,7 @@ def _solve_one(model: SimilitudeModel, base: dict, keys: list[str],
             best = sol
         if best.cost < 1e-20:
             break
+    assert best is not None  # the loop above runs at least once
     state = state_of(best.x)
     for k in keys:  # undo the round trip through the logarithm on an active bound
         for b in box[k]:
@@ -359,8 +362,8 @@ def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
                          "facility settings and ranges that keep the test section inside the fluid "
                          "model (e.g. a higher stagnation temperature, a drier gas, another fluid)")
     if len(results) > 1:
-        alts = [{"fluid": sp.fluid, "feasible": sp.feasible,
-                 "mismatch": dict(sp.mismatch)} for sp in results]
+        alts: list[dict[str, Any]] = [{"fluid": sp.fluid, "feasible": sp.feasible,
+                                       "mismatch": dict(sp.mismatch)} for sp in results]
         best = replace(best, alternatives=alts, messages=best.messages + [
             "Working fluid chosen among " + ", ".join(a["fluid"] for a in alts) + f": {best.fluid}."])
     return best

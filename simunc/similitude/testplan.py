@@ -97,6 +97,7 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     b_low = run("B1", "lowest reachable Reynolds number", primary + [low] + others, sweep_keys)
     re_low = b_low.outputs["reynolds_model"]
     runs = [a]
+    levels: np.ndarray | list[float]
     levels = np.geomspace(re_low, re_a, SWEEP_POINTS)[:-1] if re_a > re_low * (1 + 1e-6) else []
     for i, level in enumerate(levels):
         aim = replace(re_band, target=level / re_fs, priority=2)

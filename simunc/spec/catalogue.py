@@ -131,7 +131,7 @@ class CustomGroup:
     powers: Mapping[str, float]
 
     def evaluate(self, q: Mapping[str, np.ndarray]) -> np.ndarray:
-        out = 1.0
+        out: float | np.ndarray = 1.0
         for k, e in self.powers.items():
             out = out * np.asarray(q[k], dtype=float) ** e
         return np.asarray(out, dtype=float)

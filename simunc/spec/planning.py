@@ -13,7 +13,7 @@ s u.  Costs and grades are written against the expanded uncertainty U = 2 u
 
 from __future__ import annotations
 
-from typing import Any
+from typing import Any, cast
 
 from simunc.errors import StudyError
 from simunc.spec.catalogue import TARGETS
@@ -31,7 +31,10 @@ from simunc.spec.schema import (
     CostModel,
     DesignSettings,
     Requirement,
+    RequirementKind,
     SensitivitySettings,
+    ShapleyMode,
+    Spacing,
     Sweep,
 )
 from simunc.spec.table import Table, check_finite
@@ -44,9 +47,9 @@ def _fraction(t: Table, name: str, what: str) -> float:
 
 
 def requirement(data: Any, index: int, bands, outputs) -> Requirement:
-    """One ``[[requirement]]`` table (see the README)."""
+    """One ``[[requirement]]`` table (docs/study-file.md)."""
     t = Table(data, f"requirement[{index}]", REQUIREMENT_KEYS)
-    kind = t.exclusive(REQUIREMENT_KINDS)
+    kind = cast(RequirementKind, t.exclusive(REQUIREMENT_KINDS))  # required: one of them
     groups = {b.group: b for b in bands}
     if t.has("output") and t.has("group"):
         raise StudyError(t.key("group"), t.data["group"], "either output or group, not both")
@@ -63,7 +66,7 @@ def requirement(data: Any, index: int, bands, outputs) -> Requirement:
                                             f"{req.text} ({note})", note)
 
 
-def _requirement(t: Table, kind: str, groups: dict, output, note: str) -> Requirement:
+def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: str) -> Requirement:
     if kind == "conformity":
         if t.has("output"):
             raise StudyError(t.key("output"), t.data["output"], "group (a matched group) or "
@@ -93,11 +96,11 @@ def _requirement(t: Table, kind: str, groups: dict, output, note: str) -> Requir
         if t.has("probability"):
             raise StudyError(t.key("probability"), t.data["probability"], "coverage_probability "
                              "with expanded_uncertainty (probability goes with within)")
-        p = _fraction(t, "coverage_probability", "a probability above 0 and below 1") \
+        cov_p = _fraction(t, "coverage_probability", "a probability above 0 and below 1") \
             if t.has("coverage_probability") else None
-        text = f"U{'' if p is None else f'({p:g})'} of {output} <= {raw}"
+        text = f"U{'' if cov_p is None else f'({cov_p:g})'} of {output} <= {raw}"
         return Requirement(t.prefix, kind, output, (), size.value, size.relative,
-                           -1.0 if p is None else p, text, note)
+                           -1.0 if cov_p is None else cov_p, text, note)
     if t.has("coverage_probability"):
         raise StudyError(t.key("coverage_probability"), t.data["coverage_probability"],
                          "probability with within")
@@ -168,7 +171,8 @@ def sweep(data: Any, index: int, names: list[str]) -> Sweep:
     points = t.integer("points", 15 if len(chosen) == 1 else 11, 3)
     if points > 200:
         raise StudyError(t.key("points"), points, "at most 200 points per input")
-    spacing = t.choice("spacing", {"linear": "linear", "log": "log"}, default="linear")
+    spacing = cast(Spacing, t.choice("spacing", {"linear": "linear", "log": "log"},
+                                     default="linear"))
     if spacing == "log" and lo <= 0.0:
         raise StudyError(t.key("scale"), [lo, hi], "a low scale above 0 with spacing = 'log'")
     return Sweep(t.prefix, tuple(chosen), (lo, hi), points, spacing)
@@ -211,7 +215,7 @@ def sensitivity(data: Any, names: list[str]) -> SensitivitySettings:
         raise StudyError(t.key("shapley"), shapley, "'auto' (when inputs are correlated), true or "
                          "false")
     return SensitivitySettings(t.flag("second_order", False), groups,
-                               {True: "yes", False: "no"}.get(shapley, "auto"))
+                               cast(ShapleyMode, {True: "yes", False: "no"}.get(shapley, "auto")))
 
 
 def design(data: Any) -> DesignSettings:

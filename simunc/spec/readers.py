@@ -3,7 +3,7 @@
 A study is a TOML file whose dimensional values are strings with units.  It is
 read, checked and converted to SI floats here, once; a problem is raised as a
 one-line :class:`~simunc.errors.StudyError` naming the key.  The full
-reference of keys is in the README ("Study-file reference").
+reference of keys is docs/study-file.md (tests/test_docs.py keeps the two equal).
 """
 
 from __future__ import annotations
@@ -14,7 +14,7 @@ import math
 import statistics
 import tomllib
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
@@ -22,7 +22,7 @@ from simunc.constants import STANDARD_GRAVITY, STANDARD_PRESSURE
 from simunc.errors import StudyError
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
-from simunc.spec import planning as planning_spec
+from simunc.spec import planning
 from simunc.spec.catalogue import (
     GROUPS,
     QUANTITIES,
@@ -63,9 +63,11 @@ from simunc.spec.schema import (
     DimensionalAnalysis,
     Facility,
     FullScale,
+    FullScaleGiven,
     InputSpec,
     RunSettings,
     SensitivitySettings,
+    SizeKind,
     Study,
 )
 from simunc.spec.table import Table, check_finite
@@ -139,7 +141,7 @@ def _full_scale(t: Table) -> FullScale:
         raise StudyError(t.key("static_temperature") if t.has("static_temperature") else t.prefix,
                          f"{pres:.6g} Pa, {temp:.6g} K", f"a state inside the {fluid.name} model "
                          f"({reason})")
-    given = t.exclusive(("mach", "speed"))
+    given = cast(FullScaleGiven, t.exclusive(("mach", "speed")))  # required: one of the two
     if given == "mach":
         value = m = t.number("mach", low=0.0, high=1.0, low_open=True, high_open=True,
                              what="a Mach number above 0 and below 1 (only subsonic relations "
@@ -177,7 +179,7 @@ def _facility(t: Table) -> Facility:
     for k in (LIQUID_ONLY if kind == "gas" else GAS_ONLY):
         if t.has(k):
             raise StudyError(t.key(k), t.data[k], f"no {k} for a {kind} facility ({names[0]})")
-    common = dict(
+    common: dict[str, Any] = dict(
         name=t.text("name", "facility"), fluids=fluids, kind=kind,
         max_model_reference_length=t.optional_quantity("max_model_reference_length", "length"),
         test_section_area=t.optional_quantity("test_section_area", "area"),
@@ -436,18 +438,18 @@ def _type_a(t: Table, size_kind: str, targets: tuple) -> tuple[Parsed, int, str]
     raw_n = at.require("count", "the number n of readings")
     if isinstance(raw_n, bool) or not isinstance(raw_n, int) or raw_n < 4:
         raise StudyError(at.key("count"), raw_n, "a whole number of " + why)
-    s = _size(at, "standard_deviation", at.require("standard_deviation", "the experimental "
-              "standard deviation s of the readings"), targets)
+    sd = _size(at, "standard_deviation", at.require("standard_deviation", "the experimental "
+               "standard deviation s of the readings"), targets)
     text = f"n = {raw_n}, s = {at.data['standard_deviation']}"
     if at.has("mean"):
         m = to_si(at.key("mean"), at.data["mean"], dim)
         check_finite(at.key("mean"), at.data["mean"], m)
         text += f", mean {at.data['mean']}"
-    return Parsed(s.value / math.sqrt(raw_n), s.relative), raw_n, text
+    return Parsed(sd.value / math.sqrt(raw_n), sd.relative), raw_n, text
 
 
 def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> InputSpec:
-    """One ``[[uncertain]]`` table -> :class:`InputSpec` (see the README for every key)."""
+    """One ``[[uncertain]]`` table -> :class:`InputSpec` (docs/study-file.md lists every key)."""
     t = Table(data, f"uncertain[{index}]", INPUT_KEYS)
     name = t.text("name", f"input {index + 1}")
     targets = _targets(t, kind)
@@ -463,7 +465,7 @@ def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> Inpu
                              "only standard_uncertainty and half_width for a truncated normal")
         size_kind = "standard_uncertainty"
     else:
-        size_kind = t.exclusive(SIZE_KEYS)
+        size_kind = cast(str, t.exclusive(SIZE_KEYS))  # required: never None
     allowed = SIZE_DISTRIBUTIONS[size_kind]
     dist = t.choice("distribution", DISTRIBUTIONS, default=allowed[0])
     if dist not in allowed:
@@ -490,7 +492,7 @@ def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> Inpu
                          "'trapezoidal'")
     component = t.choice("component", {c: c for c in COMPONENTS}, default="systematic")
 
-    k, nu, p, limit, fixed, count = 1.0, math.inf, None, None, 0.0, None
+    cov_k, nu, p, limit, fixed, count = 1.0, math.inf, None, None, 0.0, None
     if size_kind == "accuracy":
         size, fixed, text = _accuracy(t, targets)
     elif size_kind in ("readings", "type_a"):
@@ -509,7 +511,7 @@ def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> Inpu
         size = _size(t, size_kind, raw, targets, relative=size_kind != "resolution")
         text = f"stated ({raw})" if written == "stated" else str(raw)
         if size_kind == "expanded_uncertainty":
-            k, nu, p = _coverage_factor(t, dist, beta)
+            cov_k, nu, p = _coverage_factor(t, dist, beta)
             if p is not None:
                 text += f", p = {t.data['coverage_probability']}"
             if t.has("degrees_of_freedom"):
@@ -526,11 +528,12 @@ def _input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> Inpu
                          "such as '0.5 %' for a lognormal (multiplicative) error")
     if beta is not None:
         text += f", beta = {beta:g}"
-    return InputSpec(name, target, dist, size_kind, size, k, text, t.text("note", ""), t.prefix,
+    return InputSpec(name, target, dist, cast(SizeKind, size_kind), size, cov_k, text,
+                     t.text("note", ""), t.prefix,
                      targets=targets, component=component, dof=nu, beta=beta, limit=limit,
                      fixed=fixed, count=count, coverage_probability=p,
-                     controllable=planning_spec.controllable(t, targets),
-                     cost=planning_spec.cost_model(t, targets))
+                     controllable=planning.controllable(t, targets),
+                     cost=planning.cost_model(t, targets))
 
 
 def _correlations(data: Any, names: list[str]) -> Correlation | None:
@@ -837,12 +840,12 @@ def _decisions(data: dict, bands, inputs, formed: set[str]) -> tuple:
     ``formed``: the outputs the model forms for this study."""
     names = [i.name for i in inputs]
     outputs = [k for k in dict.fromkeys([b.output for b in bands] + sorted(formed)) if k in formed]
-    reqs = tuple(planning_spec.requirement(d, i, bands, outputs)
+    reqs = tuple(planning.requirement(d, i, bands, outputs)
                  for i, d in enumerate(_array(data, "requirement")))
-    sweeps = tuple(planning_spec.sweep(d, i, names) for i, d in enumerate(_array(data, "sweep")))
-    sens = planning_spec.sensitivity(data["sensitivity"], names) if "sensitivity" in data \
+    sweeps = tuple(planning.sweep(d, i, names) for i, d in enumerate(_array(data, "sweep")))
+    sens = planning.sensitivity(data["sensitivity"], names) if "sensitivity" in data \
         else SensitivitySettings()
-    design = planning_spec.design(data["design"]) if "design" in data else DesignSettings()
+    design = planning.design(data["design"]) if "design" in data else DesignSettings()
     costed = [(j, spec.cost.kind) for j, spec in enumerate(inputs) if spec.cost is not None]
     if len({k for _, k in costed}) > 1:
         j = next(j for j, k in costed if k != costed[0][1])

@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import Literal, cast
 
 import numpy as np
 
@@ -378,7 +378,9 @@ class Study:
                ) -> dict[str, np.ndarray]:
         """Per matched group (or the ``groups`` named), which trials lie in its band; ``all``:
         in every one of them."""
-        bands = self.bands if groups is None else tuple(self.band(g) for g in groups)
+        # ``groups`` are matched groups (the readers check the names), so no band is None
+        bands = self.bands if groups is None else cast(
+            "tuple[Band, ...]", tuple(self.band(g) for g in groups))
         out: dict[str, np.ndarray] = {b.group: b.inside(y[b.output]) for b in bands}
         n = len(next(iter(y.values())))
         every = np.ones(n, dtype=bool)

@@ -9,10 +9,13 @@ from __future__ import annotations
 
 import difflib
 import math
-from typing import Any
+from typing import Any, TypeVar, overload
 
 from simunc.errors import StudyError
 from simunc.units import parse, to_si
+
+_V = TypeVar("_V")
+_S = TypeVar("_S", bound=str)
 
 
 class Table:
@@ -84,7 +87,14 @@ class Table:
             raise StudyError(self.key(name), raw, "a string")
         return raw.strip()
 
-    def choice(self, name: str, options, default: str | None = None) -> str:
+    @overload
+    def choice(self, name: str, options: dict[str, _V], default: str | None = None) -> _V: ...
+
+    @overload
+    def choice(self, name: str, options: tuple[_S, ...], default: str | None = None) -> _S: ...
+
+    def choice(self, name: str, options: Any, default: str | None = None) -> Any:
+        """``options[value]`` for a dict of options, else the value (one of ``options``)."""
         raw = self.text(name, default)
         if raw not in options:
             close = difflib.get_close_matches(raw, list(options), n=1, cutoff=0.5)

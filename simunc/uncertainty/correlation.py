@@ -4,8 +4,12 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING, cast
 
 import numpy as np
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: Smallest eigenvalue a correlation matrix may have and still count as positive definite
 #: (below it, the Gaussian copula's Cholesky factor is not defined to working precision).
@@ -95,7 +99,7 @@ class Correlation:
             idx = [correlation.names.index(n) for n in names]
             return cls(names, correlation.matrix[np.ix_(idx, idx)])
         if hasattr(correlation, "reindex"):  # a pandas DataFrame labelled with input names
-            frame = correlation
+            frame = cast("pd.DataFrame", correlation)
             unknown = (set(frame.index) | set(frame.columns)) - set(names)
             if unknown:
                 raise ValueError(f"correlation matrix names unknown inputs: {sorted(unknown)}")

@@ -33,6 +33,7 @@ def u_per_half_width(kind: str, beta: float | None = None) -> float:
     True
     """
     if kind == "trapezoidal":
+        assert beta is not None, "a trapezoidal distribution has beta (the reader requires it)"
         return math.sqrt((1.0 + beta * beta) / 6.0)
     return _U_PER_HALF_WIDTH[kind]
 
@@ -44,6 +45,7 @@ def bounded(kind: str, a: float, beta: float | None = None):
     if kind == "triangular":
         return _stats().triang(c=0.5, loc=-a, scale=2.0 * a)
     if kind == "trapezoidal":
+        assert beta is not None, "a trapezoidal distribution has beta (the reader requires it)"
         return _stats().trapezoid(0.5 * (1.0 - beta), 0.5 * (1.0 + beta), loc=-a, scale=2.0 * a)
     if kind == "arcsine":
         return _stats().arcsine(loc=-a, scale=2.0 * a)

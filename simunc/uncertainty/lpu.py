@@ -25,9 +25,10 @@ Student-t quantile at the Welch-Satterthwaite effective degrees of freedom
 (JCGM 100:2008, G.4.1).  :func:`validate` compares the GUF interval
 ``y0 +- U_p`` with a Monte Carlo interval (JCGM 101:2008, clause 8).
 
-Correlations enter only here (the Monte Carlo engine draws independent
-inputs): through the optional correlation matrix ``R`` of :func:`lpu`, which
-sets the input covariance ``V_ij = r_ij u_i u_j``.
+Correlations enter through the optional correlation matrix ``R`` of :func:`lpu`
+(a :class:`~simunc.uncertainty.correlation.Correlation`, a matrix, a labelled DataFrame or
+a mapping of pairs), which sets the input covariance ``V_ij = r_ij u_i u_j``; the Monte
+Carlo engine honours the same matrix through its Gaussian copula.
 
 References
 ----------
@@ -273,7 +274,7 @@ class LPUResult:
     sensitivities: pd.DataFrame
     covariance: pd.DataFrame
     correlation: pd.DataFrame
-    budgets: dict
+    budgets: dict[str, pd.DataFrame]
 
     def budget(self, output: str) -> pd.DataFrame:
         """Uncertainty budget of one output.
@@ -383,7 +384,7 @@ def lpu(problem: Problem, outputs: Sequence[str] | None = None, *, correlation=N
     np.fill_diagonal(corr, 1.0)
 
     pairs = [(i, j) for i in range(len(names)) for j in range(i + 1, len(names)) if r[i, j] != 0.0]
-    budgets, nu_eff = {}, []
+    budgets, nu_eff_list = {}, []
     for kk, k in enumerate(keys):
         ck = c[kk]
         comp = ck * u
@@ -400,9 +401,9 @@ def lpu(problem: Problem, outputs: Sequence[str] | None = None, *, correlation=N
         table["share_percent"] = 100.0 * table["contribution"] / var if var > 0 else np.nan
         table.index.name = "term"
         budgets[k] = table[_BUDGET_COLUMNS]
-        nu_eff.append(welch_satterthwaite(comp, nu, uc[kk]) if var > 0 else math.inf)
+        nu_eff_list.append(welch_satterthwaite(comp, nu, uc[kk]) if var > 0 else math.inf)
 
-    nu_eff = np.array(nu_eff, dtype=float)
+    nu_eff = np.array(nu_eff_list, dtype=float)
     kp = np.atleast_1d(coverage_factor(coverage_probability, nu_eff, truncate_dof))
     index = pd.Index(keys, name="output")
     value = np.array([y0[k] for k in keys])

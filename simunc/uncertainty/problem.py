@@ -4,11 +4,23 @@ function."""
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable, Mapping, Sequence
+from typing import Callable, Mapping, Protocol, Sequence
 
 import numpy as np
 
 from simunc.uncertainty.sampling import map_to_inputs
+
+
+class FrozenDistribution(Protocol):
+    """What simunc calls on a frozen scipy.stats distribution (scipy ships no type hints)."""
+
+    def mean(self) -> float: ...
+
+    def std(self) -> float: ...
+
+    def support(self) -> tuple[float, float]: ...
+
+    def ppf(self, q: np.ndarray) -> np.ndarray: ...
 
 
 @dataclass(frozen=True)
@@ -26,7 +38,7 @@ class Problem:
     """
 
     names: Sequence[str]
-    distributions: Sequence[object]
+    distributions: Sequence[FrozenDistribution]
     func: Callable[[Mapping[str, np.ndarray]], Mapping[str, np.ndarray]]
 
     @property

@@ -98,12 +98,12 @@ Lemmon-IJT-2004.
 from __future__ import annotations
 
 import math
-from collections import OrderedDict
 from typing import Any, Mapping
 
 import numpy as np
-from numpy.polynomial import chebyshev as _cheb
 from scipy.interpolate import CubicSpline
+
+from simunc.physics.fluids.chebyshev_table import ChebyshevTables
 
 __all__ = ["CoolPropGas", "AIR_REAL", "NITROGEN"]
 
@@ -128,13 +128,6 @@ CP = _CoolPropOnDemand()
 _LNRHO, _LNA, _H, _S, _LNMU, _LNK, _LNCP = range(7)
 _NQ = 7
 
-_DEG = 16                                   # degree of the trial interpolant per direction
-_NODES = _cheb.chebpts2(_DEG + 1)           # Chebyshev points of the second kind on [-1, 1]
-_VINV = np.linalg.inv(_cheb.chebvander(_NODES, _DEG))
-_CHUNK = 8192                               # most states per matrix product (stays in cache)
-# Matrix products are kept below OpenBLAS's multithreading threshold (m n k <= 65536 * 4):
-# threads give nothing for these thin products and, on a loaded machine, cost tenfold.
-_MNK = 2.0e5
 _MIN_WIDTH = (1e-3, 1e-2)                   # smallest table [ln Pa], [K]
 # Tolerance of each quantity relative to ``table_tolerance``.  CoolProp's conductivity
 # steps by about 1e-6 (relative, at 1 MPa) where the critical enhancement of Lemmon &
@@ -150,56 +143,6 @@ _CACHE_SIZE = 48                            # tables (boxes) kept per gas
 _NEWTON_COLS = ((_S, 0, 0), (_S, 1, 0), (_S, 0, 1),
                 (_H, 0, 0), (_H, 1, 0), (_H, 0, 1),
                 (_LNA, 0, 0), (_LNA, 1, 0), (_LNA, 0, 1))
-
-
-class _Node:
-    """A box of the (ln p, T) plane: a Chebyshev table (leaf) or two halves."""
-
-    __slots__ = ("box", "coef", "children", "axis", "split_at", "failed", "stacks")
-
-    def __init__(self, box):
-        self.box = box              # (x_lo, x_hi, t_lo, t_hi)
-        self.coef = None            # list over quantities of 2-D Chebyshev coefficients
-        self.children = None
-        self.axis = 0
-        self.split_at = 0.0
-        self.failed = False
-        self.stacks = {}            # columns -> coefficient matrices (see CoolPropGas._stack)
-
-    def split(self, axis):
-        x0, x1, t0, t1 = self.box
-        if axis == 0:
-            m = 0.5 * (x0 + x1)
-            boxes = ((x0, m, t0, t1), (m, x1, t0, t1))
-        else:
-            m = 0.5 * (t0 + t1)
-            boxes = ((x0, x1, t0, m), (x0, x1, m, t1))
-        self.axis, self.split_at = axis, m
-        self.children = (_Node(boxes[0]), _Node(boxes[1]))
-
-
-def _vander_rows(z, m, out):
-    """Chebyshev polynomials T_0..T_m at z as rows of ``out`` (shape (m+1, n))."""
-    out[0] = 1.0
-    if m > 0:
-        out[1] = z
-    z2 = 2.0 * z if m > 1 else None
-    for k in range(2, m + 1):
-        np.multiply(z2, out[k - 1], out=out[k])
-        out[k] -= out[k - 2]
-    return out
-
-
-def _snap(lo, hi, minimum, pad):
-    """Widen [lo, hi] by ``pad`` and 2 % and snap it outward to a power-of-two lattice."""
-    w = hi - lo
-    lo, hi = lo - pad - 0.02 * w, hi + pad + 0.02 * w
-    w = max(hi - lo, minimum)
-    step = 2.0 ** math.ceil(math.log2(w / 4.0))
-    lo_s, hi_s = math.floor(lo / step) * step, math.ceil(hi / step) * step
-    if hi_s - lo_s < minimum:
-        hi_s = lo_s + math.ceil(minimum / step) * step
-    return lo_s, hi_s
 
 
 def _bcast(*args):
@@ -282,7 +225,7 @@ class CoolPropGas:
         self.direct_max_size = int(direct_max_size)
         self._t_max_arg, self._p_max_arg = t_max, p_max
         self._as = None
-        self._tables: OrderedDict = OrderedDict()
+        self._tables = self._new_tables()
 
     def __getattr__(self, name):
         # Range and critical data are read from CoolProp on first use.
@@ -295,7 +238,7 @@ class CoolPropGas:
         # Copies and pickles leave out the CoolProp state and the tables (rebuilt on use).
         state = self.__dict__.copy()
         state["_as"] = None
-        state["_tables"] = OrderedDict()
+        state["_tables"] = self._new_tables()
         return state
 
     def __repr__(self) -> str:
@@ -442,37 +385,11 @@ class CoolPropGas:
         return out
 
     # ----------------------------------------------------------------- tables
-    def _root(self, x, t, pad=_PAD):
-        """Cached table tree for the snapped bounding box of the finite states (x = ln p).
-
-        ``pad`` widens the box [ln Pa], [K] before snapping.
-        """
-        fin = np.isfinite(x) & np.isfinite(t)
-        if not fin.all():
-            x, t = x[fin], t[fin]
-        if x.size == 0:
-            return None
-        bx = _snap(float(x.min()), float(x.max()), _SNAP_MIN[0], pad[0])
-        bt = _snap(float(t.min()), float(t.max()), _SNAP_MIN[1], pad[1])
-        key = bx + bt
-        node = self._tables.get(key)
-        if node is None:
-            node = _Node(key)
-            self._tables[key] = node
-            if len(self._tables) > _CACHE_SIZE:
-                self._tables.popitem(last=False)
-        else:
-            self._tables.move_to_end(key)
-        return node
-
-    def _fit(self, node):
-        """Fit the Chebyshev table of a leaf, or split it (or mark it failed)."""
+    def _sample(self, xs: np.ndarray, ts: np.ndarray) -> np.ndarray | None:
+        """The tabulated quantities on the grid ``exp(xs)`` x ``ts`` by CoolProp flashes; None
+        when a flash fails."""
         st = self._state()
-        x0, x1, t0, t1 = node.box
-        xs = 0.5 * (x0 + x1) + 0.5 * (x1 - x0) * _NODES
-        ts = 0.5 * (t0 + t1) + 0.5 * (t1 - t0) * _NODES
-        vals = np.empty((_DEG + 1, _DEG + 1, _NQ))
-        ok = True
+        vals = np.empty((len(xs), len(ts), _NQ))
         for i, xv in enumerate(xs):
             pv = math.exp(xv)
             for j, tv in enumerate(ts):
@@ -482,162 +399,33 @@ class CoolPropGas:
                                   st.smass(), math.log(st.viscosity()), math.log(st.conductivity()),
                                   math.log(st.cpmass()))
                 except ValueError:
-                    ok = False
-                    break
-            if not ok:
-                break
-        if ok:
-            ok = bool(np.isfinite(vals).all())
-        small = (x1 - x0 <= _MIN_WIDTH[0], t1 - t0 <= _MIN_WIDTH[1])
-        if not ok:
-            if all(small):
-                node.failed = True
-            else:
-                node.split(0 if (x1 - x0) / _MIN_WIDTH[0] >= (t1 - t0) / _MIN_WIDTH[1] else 1)
-            return
-        coef = np.einsum("ai,ijq,bj->abq", _VINV, vals, _VINV)
+                    return None
+        return vals
+
+    @staticmethod
+    def _scales(vals: np.ndarray, box: tuple) -> np.ndarray:
+        """What each tabulated quantity's tolerance is relative to: h to cp T, s to cp."""
+        t0, t1 = box[2], box[3]
         cp = float(np.exp(vals[..., _LNCP]).mean())
         scale = np.ones(_NQ)
         scale[_H] = cp * 0.5 * (t0 + t1)
         scale[_S] = cp
-        tol = self.table_tolerance * _TOL_FACTOR
-        a = np.abs(coef) / (scale * tol)                # in units of each quantity's tolerance
-        tail_x = float(a[_DEG - 1:, :, :].sum(axis=(0, 1)).max())
-        tail_t = float(a[:, _DEG - 1:, :].sum(axis=(0, 1)).max())
-        if max(tail_x, tail_t) > 0.25 and not all(small):
-            if (tail_x >= tail_t or small[1]) and not small[0]:
-                node.split(0)
-            else:
-                node.split(1)
-            return
-        # Converged (or as small as allowed): keep the lowest degrees whose dropped
-        # coefficients sum to at most half the tolerance.
-        cum = a.cumsum(axis=0).cumsum(axis=1)           # (i, j, q): sum over [0..i] x [0..j]
-        dropped = cum[-1, -1, :][None, None, :] - cum
-        sizes = np.outer(np.arange(_DEG + 1) + 1.0, np.arange(_DEG + 1) + 1.0)
-        node.coef = []
-        for q in range(_NQ):
-            cand = np.where(dropped[:, :, q] <= 0.5, sizes, np.inf)
-            cand[-1, -1] = min(cand[-1, -1], sizes[-1, -1])
-            i, j = np.unravel_index(int(np.argmin(cand)), cand.shape)
-            node.coef.append(coef[: i + 1, : j + 1, q].copy())
+        return scale
 
-    def _stack(self, node, cols):
-        """Coefficients of a leaf for the requested (quantity, d/dlnp, d/dT) columns.
+    def _new_tables(self) -> ChebyshevTables:
+        return ChebyshevTables(self._sample, _NQ, self._scales,
+                               self.table_tolerance * _TOL_FACTOR, min_width=_MIN_WIDTH,
+                               snap_min=_SNAP_MIN, cache_size=_CACHE_SIZE)
 
-        Returns ``(full, two, mx, my, ncol)``: ``full`` (ncol, (mx+1)(my+1)) multiplies
-        the tensor basis ``T_i(X) T_j(Y)``; ``two`` ((mx+1) ncol, my+1) multiplies the
-        ``T_j(Y)`` rows first (cheaper when few columns are requested).
-        """
-        got = node.stacks.get(cols)
-        if got is not None:
-            return got
-        x0, x1, t0, t1 = node.box
-        blocks = []
-        for q, dx, dt in cols:
-            c = node.coef[q]
-            if dx:
-                c = _cheb.chebder(c, 1, 2.0 / (x1 - x0), axis=0) if c.shape[0] > 1 else 0.0 * c
-            if dt:
-                c = _cheb.chebder(c, 1, 2.0 / (t1 - t0), axis=1) if c.shape[1] > 1 else 0.0 * c
-            blocks.append(c)
-        mx = max(b.shape[0] for b in blocks) - 1
-        my = max(b.shape[1] for b in blocks) - 1
-        nc = len(cols)
-        c3 = np.zeros((mx + 1, nc, my + 1))
-        for k, b in enumerate(blocks):
-            c3[: b.shape[0], k, : b.shape[1]] = b
-        full = np.ascontiguousarray(c3.transpose(1, 0, 2).reshape(nc, (mx + 1) * (my + 1)))
-        got = (full, c3.reshape((mx + 1) * nc, my + 1), mx, my, nc)
-        node.stacks[cols] = got
-        return got
-
-    def _leaf_eval(self, node, x, t, cols, out):
-        """Evaluate the leaf's columns at states x = ln p, t into ``out`` (ncol, n)."""
-        full, two, mx, my, nc = self._stack(node, cols)
-        x0, x1, t0, t1 = node.box
-        ax, bx = 2.0 / (x1 - x0), (x0 + x1) / (x1 - x0)
-        at, bt = 2.0 / (t1 - t0), (t0 + t1) / (t1 - t0)
-        n = x.size
-        nk = (mx + 1) * (my + 1)
-        chunk = min(_CHUNK, n, max(256, int(_MNK / (nk * nc)) // 64 * 64))
-        use_full = nk <= 2 * (mx + 1) * nc
-        tx = np.empty((mx + 1, chunk))
-        ty = np.empty((my + 1, chunk))
-        if use_full:
-            basis = np.empty((mx + 1, my + 1, chunk))
-            res = np.empty((nc, chunk))
-        else:
-            zbuf = np.empty(((mx + 1) * nc, chunk))
-            tmp = np.empty((nc, chunk))
-        for s in range(0, n, chunk):
-            e = min(s + chunk, n)
-            m = e - s
-            zx = x[s:e] * ax
-            zx -= bx
-            zt = t[s:e] * at
-            zt -= bt
-            _vander_rows(zx, mx, tx[:, :m])
-            _vander_rows(zt, my, ty[:, :m])
-            if use_full:
-                b = basis[:, :, :m]
-                np.multiply(tx[:, None, :m], ty[None, :, :m], out=b)
-                if m == chunk:
-                    np.matmul(full, basis.reshape(nk, chunk), out=res)
-                    out[:, s:e] = res
-                else:
-                    out[:, s:e] = full @ b.reshape(nk, m)
-            else:
-                z = np.matmul(two, ty[:, :m], out=zbuf[:, :m]).reshape(mx + 1, nc, m)
-                o = out[:, s:e]
-                np.multiply(z[0], tx[0, :m], out=o)
-                for i in range(1, mx + 1):
-                    np.multiply(z[i], tx[i, :m], out=tmp[:, :m])
-                    o += tmp[:, :m]
+    def _root(self, x, t, pad=_PAD):
+        """Cached table tree for the snapped bounding box of the finite states (x = ln p)."""
+        return self._tables.root(x, t, pad)
 
     def _table(self, x, t, cols, root=None):
         """Columns (rows of the result) at states x = ln p [ln Pa], t [K] from the tables."""
-        cols = tuple(cols)
-        n = x.size
-        out = np.full((len(cols), n), np.nan)
-        if root is None:
-            root = self._root(x, t)
-        if root is None:
-            return out
-        stack = [(root, None)]
-        while stack:
-            node, idx = stack.pop()
-            if idx is not None and idx.size == 0:
-                continue
-            if node.coef is None and node.children is None and not node.failed:
-                self._fit(node)
-            if node.children is not None:
-                coord = x if node.axis == 0 else t
-                if idx is None:
-                    lower = coord < node.split_at
-                    stack.append((node.children[0], np.flatnonzero(lower)))
-                    stack.append((node.children[1], np.flatnonzero(~lower)))
-                else:
-                    lower = coord[idx] < node.split_at
-                    stack.append((node.children[0], idx[lower]))
-                    stack.append((node.children[1], idx[~lower]))
-                continue
-            if node.failed:
-                continue
-            if idx is None:
-                self._leaf_eval(node, x, t, cols, out)
-            else:
-                part = np.empty((len(cols), idx.size))
-                self._leaf_eval(node, x[idx], t[idx], cols, part)
-                out[:, idx] = part
-        return out
+        return self._tables.evaluate(x, t, cols, root, _PAD)
 
-    @staticmethod
-    def _in_box(root, x, t):
-        x0, x1, t0, t1 = root.box
-        with np.errstate(invalid="ignore"):
-            inside = (x >= x0) & (x <= x1) & (t >= t0) & (t <= t1)
-        return bool(inside[np.isfinite(x) & np.isfinite(t)].all())
+    _in_box = staticmethod(ChebyshevTables.in_box)
 
     # ------------------------------------------------------------- properties
     def _props(self, p, t, quantities):
@@ -751,16 +539,6 @@ class CoolPropGas:
         """
         out, shape = self._props(p, t, (_LNK,))
         return np.exp(out[0]).reshape(shape)
-
-    def specific_enthalpy(self, p, t) -> np.ndarray:
-        """Specific enthalpy [J kg^-1] (CoolProp's reference state for the fluid)."""
-        out, shape = self._props(p, t, (_H,))
-        return out[0].reshape(shape)
-
-    def specific_entropy(self, p, t) -> np.ndarray:
-        """Specific entropy [J kg^-1 K^-1] (CoolProp's reference state for the fluid)."""
-        out, shape = self._props(p, t, (_S,))
-        return out[0].reshape(shape)
 
     # ------------------------------------------------------ isentropic flow
     def static_state(self, p0, t0, mach, **params) -> tuple[np.ndarray, np.ndarray]:

@@ -45,7 +45,7 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from simunc.pipeline import prepare
-from simunc.spec.readers import load_study
+from simunc.study.readers import load_study
 from simunc.uncertainty.propagate import adaptive, propagate
 from simunc.uncertainty.sampling import BLOCK_SIZE
 

@@ -50,7 +50,7 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from simunc.pipeline import conformity, prepare
-from simunc.spec.readers import load_study
+from simunc.study.readers import load_study
 from simunc.uncertainty.propagate import monte_carlo, summarize
 from simunc.uncertainty.sampling import map_to_inputs, unit_samples
 

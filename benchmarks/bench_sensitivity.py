@@ -44,7 +44,7 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 from simunc.pipeline import prepare
-from simunc.spec.readers import parse_study
+from simunc.study.readers import parse_study
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.sobol import sobol_analysis
 

@@ -18,7 +18,7 @@ from importlib import import_module
 __version__ = "0.1.0"
 
 _API = {
-    "load_study": "spec.readers", "parse_study": "spec.readers", "Study": "spec.schema",
+    "load_study": "study.readers", "parse_study": "study.readers", "Study": "study.schema",
     "solve": "similitude.setpoint", "SetPoint": "similitude.setpoint",
     "prepare": "pipeline", "Prepared": "pipeline", "run": "pipeline", "Result": "pipeline",
     "write_report": "report",

@@ -78,7 +78,7 @@ def _parser() -> argparse.ArgumentParser:
 
 def _check(args) -> int:
     from simunc.similitude.setpoint import solve
-    from simunc.spec.readers import load_study
+    from simunc.study.readers import load_study
 
     study = load_study(args.study)
     sp = solve(study)
@@ -100,7 +100,7 @@ def _check(args) -> int:
 
 
 def _cli_sweeps(args, study) -> tuple:
-    from simunc.spec.planning import sweep
+    from simunc.study.planning import sweep
 
     if not args.input:
         if args.scale is not None or args.points is not None:
@@ -128,7 +128,7 @@ def _run(args) -> int:
     from simunc.pipeline import run
     from simunc.report import write_report
     from simunc.report.write import check_out_dir
-    from simunc.spec.readers import load_study
+    from simunc.study.readers import load_study
 
     check_out_dir(args.out)
     study = load_study(args.study)

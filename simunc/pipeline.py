@@ -31,8 +31,8 @@ from simunc.similitude.inputs import UncertainInput, build_inputs, similitude_pr
 from simunc.similitude.model import SimilitudeModel, trial_problems
 from simunc.similitude.setpoint import SetPoint, build_model, solve
 from simunc.similitude.testplan import TestPlan, plan
-from simunc.spec.catalogue import describe_output
-from simunc.spec.schema import Band, RunSettings, Study, Sweep
+from simunc.study.catalogue import describe_output
+from simunc.study.schema import Band, RunSettings, Study, Sweep
 from simunc.uncertainty.lpu import LPUResult, lpu, validate
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
@@ -483,7 +483,7 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
     parts : sequence of str
         Which of :data:`PARTS` to run when the study defines them: the requirement
         solver and allocation (``[[requirement]]``), the tolerance sweeps (``[[sweep]]``).
-    extra_sweeps : sequence of simunc.spec.schema.Sweep
+    extra_sweeps : sequence of simunc.study.schema.Sweep
         Sweeps to run besides the study's (the ``simunc sweep`` command).
     prepared : Prepared, optional
         The result of :func:`prepare` for this study, when the caller has it already.

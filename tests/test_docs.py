@@ -2,9 +2,9 @@
 
 * docs/study-file.md lists, under a heading naming each study table (``[facility]``,
   ``[[uncertain]]``, ``[facility.humidity]``, ...), a table whose first column is headed "key":
-  those keys must be exactly the keys the study readers accept (``simunc.spec.keys.SECTION_KEYS``);
+  those keys must be exactly the keys the study readers accept (``simunc.study.keys.SECTION_KEYS``);
   its ``perturbs`` table must list exactly the quantities an input can perturb
-  (``simunc.spec.catalogue.TARGETS``) and its fluid table exactly the working fluids
+  (``simunc.study.catalogue.TARGETS``) and its fluid table exactly the working fluids
   (``simunc.physics.fluids.FLUIDS``).
 * docs/results-json.md holds the results.json schema as an indented listing: the keys it documents
   must be exactly the keys ``results_dict`` writes for the demo study, at every level the listing
@@ -159,7 +159,7 @@ def test_markdown_key_table_parser_reads_sections_and_keys():
 
 
 def test_study_file_documents_exactly_the_accepted_keys():
-    from simunc.spec.keys import SECTION_KEYS
+    from simunc.study.keys import SECTION_KEYS
 
     keys, problems = documented_keys(STUDY_FILE_DOC.read_text())
     lines = list(problems)
@@ -183,7 +183,7 @@ def test_study_file_documents_exactly_the_accepted_keys():
 
 
 def test_study_file_lists_every_perturbable_quantity():
-    from simunc.spec.catalogue import TARGETS
+    from simunc.study.catalogue import TARGETS
 
     documented = first_column_names(STUDY_FILE_DOC.read_text(), "`perturbs`")
     missing = sorted(set(TARGETS) - documented)

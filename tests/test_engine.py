@@ -33,7 +33,7 @@ from scipy import special, stats
 from simunc.pipeline import similitude_problem
 from simunc.similitude.inputs import build_inputs
 from simunc.similitude.setpoint import build_model, solve
-from simunc.spec.readers import load_study
+from simunc.study.readers import load_study
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.propagate import adaptive, monte_carlo, propagate, summarize
 from simunc.uncertainty.sampling import (

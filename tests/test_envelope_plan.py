@@ -15,7 +15,7 @@ import pytest
 from simunc.similitude.envelope import envelope, reynolds_band
 from simunc.similitude.setpoint import build_model, solve
 from simunc.similitude.testplan import SWEEP_POINTS, plan
-from simunc.spec.readers import parse_study
+from simunc.study.readers import parse_study
 
 from .test_setpoint import (
     L_FS,

@@ -1,7 +1,7 @@
 """The package's import rule (DEVELOPERS.md, "Layers"): imports run one way, no cycles,
 no private names across modules.
 
-errors/constants/units <- physics, uncertainty <- spec <- similitude <- decisions <- pipeline
+errors/constants/units <- physics, uncertainty <- study <- similitude <- decisions <- pipeline
 <- report <- cli.  ``physics`` and ``uncertainty`` share a rank and import nothing of each other.
 The checks read the source with :mod:`ast` (function-level imports included), so a lazy import
 that breaks the rule fails too.
@@ -20,7 +20,7 @@ PACKAGE = Path(__file__).resolve().parent.parent / "simunc"
 RANKS = {
     "errors": 0, "constants": 0, "units": 0,
     "physics": 1, "uncertainty": 1,
-    "spec": 2,
+    "study": 2,
     "similitude": 3,
     "decisions": 4,
     "matrix": 5,
@@ -126,8 +126,8 @@ def test_no_private_names_across_modules():
 
 
 @pytest.mark.parametrize("bad", [
-    ("simunc.physics.flow", "from simunc.spec import schema\n"),
-    ("simunc.spec.readers", "def f():\n    from simunc.pipeline import run\n"),
+    ("simunc.physics.flow", "from simunc.study import schema\n"),
+    ("simunc.study.readers", "def f():\n    from simunc.pipeline import run\n"),
     ("simunc.uncertainty.lpu", "from simunc.physics import flow\n"),
 ])
 def test_the_rule_catches_a_wrong_import(bad, tmp_path, monkeypatch):
@@ -148,8 +148,8 @@ def test_the_rule_catches_a_wrong_import(bad, tmp_path, monkeypatch):
 @pytest.mark.parametrize("study_file", sorted((PACKAGE.parent / "studies").glob("*.toml")))
 def test_the_model_forms_exactly_the_catalogued_outputs(study_file):
     from simunc.pipeline import prepare
-    from simunc.spec.catalogue import formed_outputs
-    from simunc.spec.readers import load_study
+    from simunc.study.catalogue import formed_outputs
+    from simunc.study.readers import load_study
 
     study = load_study(study_file)
     prep = prepare(study)

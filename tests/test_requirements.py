@@ -39,8 +39,8 @@ from simunc.decisions.requirements import margins
 from simunc.decisions.sweeps import sweep
 from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
-from simunc.spec.readers import parse_study
-from simunc.spec.schema import Band, CostModel, DesignSettings, Requirement, RunSettings, Study
+from simunc.study.readers import parse_study
+from simunc.study.schema import Band, CostModel, DesignSettings, Requirement, RunSettings, Study
 from simunc.uncertainty.problem import Problem
 from simunc.units import Parsed
 
@@ -61,7 +61,7 @@ SIGMA = math.sqrt(V.sum())
 
 @dataclass
 class FakeStudy:
-    """The attributes of simunc.spec.schema.Study that the decision engines read."""
+    """The attributes of simunc.study.schema.Study that the decision engines read."""
 
     bands: tuple
     requirements: tuple

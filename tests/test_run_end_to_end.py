@@ -17,7 +17,7 @@ import pytest
 import simunc
 from simunc.cli import main
 from simunc.similitude.inputs import standard_uncertainty
-from simunc.spec.schema import InputSpec
+from simunc.study.schema import InputSpec
 from simunc.uncertainty.distributions import make_distribution
 from simunc.units import Parsed
 

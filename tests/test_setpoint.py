@@ -1,7 +1,7 @@
 """simunc.similitude.setpoint.solve against hand calculations written in this file.
 
 The studies below are small invented inputs (demo data, not check values),
-built with simunc.spec.readers.parse_study from dicts that mirror the TOML schema of
+built with simunc.study.readers.parse_study from dicts that mirror the TOML schema of
 studies/arven_cruise.toml.  Every expected value is computed here from plain
 formulas, without calling simunc's physics:
 
@@ -25,7 +25,7 @@ import math
 import pytest
 
 from simunc.similitude.setpoint import solve
-from simunc.spec.readers import parse_study
+from simunc.study.readers import parse_study
 
 R = 8314.32 / 28.9644
 GAMMA = 1.4

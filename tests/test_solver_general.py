@@ -14,7 +14,7 @@ import pytest
 
 from simunc.errors import StudyError
 from simunc.similitude.setpoint import build_model, solve
-from simunc.spec.readers import parse_study
+from simunc.study.readers import parse_study
 
 from .test_setpoint import (
     L_FS,
@@ -178,8 +178,8 @@ def test_condensing_humidity_is_reported():
 def test_no_target_shares_a_name_with_a_model_input(name):
     # A deviation key equal to a nominal key would overwrite the nominal value (simunc contract).
     from simunc.similitude.setpoint import nominal_state
-    from simunc.spec.catalogue import TARGETS
-    from simunc.spec.readers import load_study
+    from simunc.study.catalogue import TARGETS
+    from simunc.study.readers import load_study
 
     from .conftest import ROOT
 

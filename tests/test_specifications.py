@@ -23,7 +23,7 @@ from scipy import integrate, stats
 from simunc.errors import StudyError
 from simunc.similitude.inputs import build_inputs
 from simunc.similitude.setpoint import solve
-from simunc.spec.readers import parse_study
+from simunc.study.readers import parse_study
 from simunc.uncertainty.distributions import make_distribution, truncated_normal_std
 from simunc.uncertainty.sampling import map_to_inputs, unit_samples
 

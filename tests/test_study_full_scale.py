@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from simunc.errors import StudyError
-from simunc.spec.readers import parse_study
+from simunc.study.readers import parse_study
 
 from .test_setpoint import base_study
 

@@ -1,6 +1,6 @@
 """The inverse problem: the tolerances a set of accuracy requirements allows.
 
-Requirements (:class:`simunc.spec.schema.Requirement`) are checked on Monte
+Requirements (:class:`simunc.study.schema.Requirement`) are checked on Monte
 Carlo trials: ``U_p(y) <= limit`` (half-length of the probabilistically
 symmetric coverage interval, JCGM 101:2008 7.7), ``P(|y - c| <= w) >= p`` and
 the conformity probability of the tolerance bands ``>= p`` (JCGM 106:2012).

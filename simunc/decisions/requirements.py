@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from simunc.spec.schema import RequirementKind
+from simunc.study.schema import RequirementKind
 from simunc.uncertainty.statistics import symmetric_interval
 
 

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from simunc.decisions.design import Design, Figures
-from simunc.spec.schema import Spacing
+from simunc.study.schema import Spacing
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -11,7 +11,7 @@ from simunc import __version__
 from simunc.report import decisions
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
-from simunc.spec.catalogue import describe_output
+from simunc.study.catalogue import describe_output
 
 SAFETY = [
     "Pressurised facilities store a great deal of energy in the gas: run only inside the "

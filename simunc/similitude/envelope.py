@@ -18,7 +18,7 @@ import numpy as np
 
 from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import SetPoint, largest_model, nominal_state
-from simunc.spec.schema import Study
+from simunc.study.schema import Study
 
 _N_X = 61
 _N_T = 9

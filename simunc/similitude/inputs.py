@@ -1,7 +1,7 @@
 """Uncertain inputs: study specifications turned into scipy.stats distributions.
 
-A specification (:class:`~simunc.spec.schema.InputSpec`) names the quantities it
-perturbs (:data:`simunc.spec.catalogue.TARGETS` keys), a distribution and one size in
+A specification (:class:`~simunc.study.schema.InputSpec`) names the quantities it
+perturbs (:data:`simunc.study.catalogue.TARGETS` keys), a distribution and one size in
 metrology terms; here it becomes a frozen scipy.stats distribution of the
 DEVIATION, of mean zero (no known bias), with its standard uncertainty u (the
 standard deviation of that distribution):
@@ -58,8 +58,8 @@ from scipy import stats
 from simunc.errors import StudyError
 from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import SetPoint
-from simunc.spec.catalogue import TARGETS
-from simunc.spec.schema import Component, InputSpec
+from simunc.study.catalogue import TARGETS
+from simunc.study.schema import Component, InputSpec
 from simunc.uncertainty.distributions import (
     BOUNDED,
     bounded,
@@ -80,7 +80,7 @@ class UncertainInput:
     ----------
     name : str
     target : str
-        The (first) :data:`~simunc.spec.catalogue.TARGETS` key it perturbs.
+        The (first) :data:`~simunc.study.catalogue.TARGETS` key it perturbs.
     distribution : scipy.stats frozen distribution
         Of the deviation of ``target``, SI, mean zero.
     kind : str

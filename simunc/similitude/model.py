@@ -38,8 +38,8 @@ import numpy as np
 from simunc.constants import STANDARD_GRAVITY
 from simunc.physics import flow, groups
 from simunc.physics.fluids import Fluid, GasModel
-from simunc.spec.catalogue import GROUPS, TARGETS, CustomGroup, formed_groups
-from simunc.spec.schema import FullScaleGiven, MachFrom
+from simunc.study.catalogue import GROUPS, TARGETS, CustomGroup, formed_groups
+from simunc.study.schema import FullScaleGiven, MachFrom
 
 
 @dataclass(frozen=True)
@@ -136,7 +136,7 @@ class SimilitudeModel:
 
     @staticmethod
     def _groups(s: dict, length, frequency, names: tuple[str, ...]) -> dict:
-        """The groups ``names`` (:func:`~simunc.spec.catalogue.formed_groups`) of one state."""
+        """The groups ``names`` (:func:`~simunc.study.catalogue.formed_groups`) of one state."""
         f, params = s["fluid"], s["params"]
         rho, u, mu, p, t = s["rho"], s["speed"], s["mu"], s["p"], s["t"]
         formulas = {

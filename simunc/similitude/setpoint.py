@@ -32,7 +32,7 @@ from scipy.optimize import least_squares
 
 from simunc.constants import STANDARD_PRESSURE
 from simunc.similitude.model import SimilitudeModel
-from simunc.spec.schema import Band, Study
+from simunc.study.schema import Band, Study
 
 #: Weight between successive priority levels.
 PRIORITY_WEIGHT = 1.0e6

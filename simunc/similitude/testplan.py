@@ -25,7 +25,7 @@ import numpy as np
 
 from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import MATCHED, SetPoint, band_residual, solve_state
-from simunc.spec.schema import Study
+from simunc.study.schema import Study
 
 #: Reynolds-number levels of the sweep (runs B), including the lowest and run A.
 SWEEP_POINTS = 4

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from simunc.spec.catalogue import GROUPS
+from simunc.study.catalogue import GROUPS
 
 ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
               "correlations", "run", "dimensional_analysis", "requirement", "sweep",

@@ -22,8 +22,8 @@ from simunc.constants import STANDARD_GRAVITY, STANDARD_PRESSURE
 from simunc.errors import StudyError
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
-from simunc.spec import planning
-from simunc.spec.catalogue import (
+from simunc.study import planning
+from simunc.study.catalogue import (
     GROUPS,
     QUANTITIES,
     TARGETS,
@@ -32,7 +32,7 @@ from simunc.spec.catalogue import (
     formed_outputs,
     output_key,
 )
-from simunc.spec.keys import (
+from simunc.study.keys import (
     ACCURACY_KEYS,
     BAND_KEYS,
     CORRELATION_KEYS,
@@ -50,7 +50,7 @@ from simunc.spec.keys import (
     SIZE_KEYS,
     TYPE_A_KEYS,
 )
-from simunc.spec.schema import (
+from simunc.study.schema import (
     COMPONENTS,
     DEFAULT_PRIORITY,
     DISTRIBUTIONS,
@@ -70,7 +70,7 @@ from simunc.spec.schema import (
     SizeKind,
     Study,
 )
-from simunc.spec.table import Table, check_finite
+from simunc.study.table import Table, check_finite
 from simunc.uncertainty.correlation import Correlation
 from simunc.uncertainty.distributions import coverage_factor, make_distribution
 from simunc.units import DIMENSIONS, Parsed, parse, to_si, ureg

@@ -1,6 +1,6 @@
 """The study schema: frozen keyword-only dataclasses in SI, and the vocabulary of kinds.
 
-No TOML here: :mod:`simunc.spec.readers` and :mod:`simunc.spec.planning` build these objects
+No TOML here: :mod:`simunc.study.readers` and :mod:`simunc.study.planning` build these objects
 from a study file.
 """
 
@@ -15,7 +15,7 @@ import numpy as np
 
 from simunc.physics.dimensional import PiGroup
 from simunc.physics.fluids import AIR, Fluid
-from simunc.spec.catalogue import CustomGroup, output_key
+from simunc.study.catalogue import CustomGroup, output_key
 from simunc.uncertainty.correlation import Correlation
 from simunc.units import Parsed
 
@@ -255,7 +255,7 @@ class InputSpec:
     name, key : str
         Label, and the study key prefix (``uncertain[i]``) for messages.
     target : str
-        The first (usually the only) :data:`~simunc.spec.catalogue.TARGETS` key it perturbs.
+        The first (usually the only) :data:`~simunc.study.catalogue.TARGETS` key it perturbs.
     distribution : str
         ``normal``, ``rectangular``, ``triangular``, ``trapezoidal``, ``arcsine``,
         ``truncated_normal`` or ``lognormal``; ``normal`` with a finite ``dof`` is a

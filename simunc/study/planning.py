@@ -1,6 +1,6 @@
 """Study keys of the decision part: requirements, costs, sweeps, sensitivity options.
 
-Parsed once at load, like the rest of the study (:mod:`simunc.spec.readers`), into
+Parsed once at load, like the rest of the study (:mod:`simunc.study.readers`), into
 frozen dataclasses holding SI floats.  The analyses that use them live in
 :mod:`simunc.decisions.design` (tolerance sweeps, "control this more tightly") and
 :mod:`simunc.decisions.allocation` (the requirement solver and the allocation).
@@ -16,8 +16,8 @@ from __future__ import annotations
 from typing import Any, cast
 
 from simunc.errors import StudyError
-from simunc.spec.catalogue import TARGETS
-from simunc.spec.keys import (
+from simunc.study.catalogue import TARGETS
+from simunc.study.keys import (
     COST_KEYS,
     DESIGN_KEYS,
     GRADE_KEYS,
@@ -25,7 +25,7 @@ from simunc.spec.keys import (
     SENSITIVITY_KEYS,
     SWEEP_KEYS,
 )
-from simunc.spec.schema import (
+from simunc.study.schema import (
     REQUIREMENT_KINDS,
     UNCONTROLLED_TARGETS,
     CostModel,
@@ -37,7 +37,7 @@ from simunc.spec.schema import (
     Spacing,
     Sweep,
 )
-from simunc.spec.table import Table, check_finite
+from simunc.study.table import Table, check_finite
 from simunc.units import Parsed, parse
 
 
@@ -111,7 +111,7 @@ def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: st
 
 
 def _output_dimension(output: str) -> str:
-    from simunc.spec.catalogue import describe_output
+    from simunc.study.catalogue import describe_output
     from simunc.units import DIMENSIONS
     unit = describe_output(output)[0]
     for dim, (_, label, _) in DIMENSIONS.items():

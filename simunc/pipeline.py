@@ -387,8 +387,13 @@ def gum_stage(prep: Prepared, mc: MonteCarloStage) -> GumStage:
     varying = [o for o in stats.index if stats.loc[o, "standard_uncertainty"] > 0.0]
     dof = {i.name: i.dof for i in inputs}
     finite = any(np.isfinite(v) for v in dof.values())
+    # The GUM framework propagates u = U / k or s / sqrt(n) with the degrees of freedom
+    # (JCGM 100:2008 G.4), not the standard deviation of the t-distribution the Monte Carlo
+    # samples (JCGM 101:2008 6.4.9).
     guf = lpu(prep.problem, varying, coverage_probability=prep.settings.coverage_probability,
               dof=dof if finite and prep.correlation is None else None,
+              uncertainty={i.name: i.gum_standard_uncertainty for i in inputs
+                           if np.isfinite(i.dof)},
               correlation=prep.correlation)
     return GumStage(lpu=guf, validation=validate(guf, stats.loc[varying], n_digits=2),
                     components=component_split(guf, inputs, [b.output for b in prep.study.bands
@@ -442,8 +447,9 @@ def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
         limits = input_limits(design, inputs)
         if any(i.spec.cost is not None for i in inputs):
             assert gum.lpu is not None
-            cov = gum.lpu.input_correlation * np.outer(gum.lpu.input_uncertainties,
-                                                       gum.lpu.input_uncertainties)
+            # the surrogate models the Monte Carlo: the sampled standard deviations
+            u_mc = np.array([float(i.distribution.std()) for i in inputs])
+            cov = gum.lpu.input_correlation * np.outer(u_mc, u_mc)
             needed = {r.output for r in study.requirements if r.output} | {  # groups: matched ones
                 cast(Band, study.band(g)).output for r in study.requirements for g in r.groups}
             coefficients = _sensitivities(gum.lpu, problem, correlation, needed)

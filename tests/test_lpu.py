@@ -517,3 +517,58 @@ def test_demo_reynolds_ratio_lpu_against_monte_carlo(demo_problem):
         se_q = math.sqrt(0.975 * 0.025 / m) / (stats.norm.pdf(1.96) / u)
         assert max(v.loc[key, "d_low"], v.loc[key, "d_high"]) + K_SE * se_q < v.loc[key, "delta"]
         assert v.loc[key, "validated"]
+
+
+# ---------------------------------------------------------------------------------------------
+# Finite degrees of freedom: the GUM framework propagates u = s / sqrt(n) (or U / k) with nu
+# (JCGM 100:2008 4.2.3, G.4.1); the inflated standard deviation of the t-distribution,
+# u sqrt(nu / (nu - 2)), belongs to the Monte Carlo method only (JCGM 101:2008 6.4.9.4).
+# ---------------------------------------------------------------------------------------------
+def test_type_a_input_enters_the_lpu_with_s_over_root_n_and_its_dof():
+    # Y = X1 + X2; X1 from n = 5 readings with s = 2 (u = 2 / sqrt 5, nu = 4), X2 normal, u = 0.5.
+    # By hand (JCGM 100:2008 G.4.1, eq. G.2b): u_c^2 = 0.8 + 0.25 = 1.05,
+    # nu_eff = 1.05^2 / (0.8^2 / 4) = 6.890625, U = t_0.975(nu_eff) u_c.
+    u1 = 2.0 / math.sqrt(5.0)
+    p = Problem(["x1", "x2"], [stats.t(4.0, scale=u1), stats.norm(scale=0.5)],
+                lambda x: {"y": x["x1"] + x["x2"]})
+    r = lpu(p, dof={"x1": 4.0}, uncertainty={"x1": u1})
+    e = r.estimates.loc["y"]
+    assert e["standard_uncertainty"] == pytest.approx(math.sqrt(1.05), rel=1e-12)
+    assert e["effective_dof"] == pytest.approx(6.890625, rel=1e-12)
+    k = stats.t.ppf(0.975, 6.890625)                        # scipy as the reference quantile
+    assert e["expanded_uncertainty"] == pytest.approx(k * math.sqrt(1.05), rel=1e-12)
+    # without the GUM u the t-distribution's own standard deviation (sqrt 2 times larger at
+    # nu = 4) would be propagated: the +15 % error the review found
+    wrong = lpu(p, dof={"x1": 4.0}).estimates.loc["y", "standard_uncertainty"]
+    assert wrong == pytest.approx(math.sqrt(1.6 + 0.25), rel=1e-12)
+
+
+def test_run_gives_the_lpu_the_gum_uncertainty_of_a_type_a_input(demo_dict):
+    # The demo's T0 thermometer written as a Type A evaluation: s = 2 K from n = 5 readings.
+    import simunc
+    from simunc.pipeline import gum_stage, monte_carlo_stage
+    from simunc.study.readers import parse_study
+
+    data = dict(demo_dict)
+    data.pop("correlations", None)                  # Welch-Satterthwaite needs independence
+    data["uncertain"] = [dict(u) for u in data["uncertain"]]
+    t0 = next(u for u in data["uncertain"] if u["name"] == "T0 thermometer")
+    for k in ("distribution", "expanded_uncertainty", "coverage_factor"):
+        t0.pop(k, None)
+    t0["type_a"] = {"count": 5, "standard_deviation": "2 K"}
+    data["run"] = dict(data.get("run", {}), trials=2000)
+    prep = simunc.prepare(parse_study(data))
+    gum = gum_stage(prep, monte_carlo_stage(prep))
+    r = gum.lpu
+    j = r.inputs.index("T0 thermometer")
+    assert r.input_uncertainties[j] == pytest.approx(2.0 / math.sqrt(5.0), rel=1e-12)
+    assert r.input_dof[j] == 4.0
+    # Welch-Satterthwaite and U by hand from the LPU's own coefficients and GUM uncertainties
+    c = r.sensitivities.loc["reynolds_ratio"].to_numpy()
+    comp = c * r.input_uncertainties
+    uc = math.sqrt(float(np.sum(comp**2)))
+    nu_eff = uc**4 / (comp[j] ** 4 / 4.0)
+    e = r.estimates.loc["reynolds_ratio"]
+    assert e["standard_uncertainty"] == pytest.approx(uc, rel=1e-12)
+    assert e["effective_dof"] == pytest.approx(nu_eff, rel=1e-9)
+    assert e["expanded_uncertainty"] == pytest.approx(stats.t.ppf(0.975, nu_eff) * uc, rel=1e-9)

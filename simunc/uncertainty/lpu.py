@@ -204,6 +204,22 @@ def _correlation_matrix(correlation, names: Sequence[str]) -> np.ndarray:
     return Correlation.coerce(correlation, names).matrix
 
 
+def _override(values, names: Sequence[str], default: np.ndarray) -> np.ndarray:
+    """Per-input values from a mapping (missing: ``default``) or a full sequence."""
+    if isinstance(values, Mapping):
+        unknown = set(values) - set(names)
+        if unknown:
+            raise ValueError(f"standard uncertainties name unknown inputs: {sorted(unknown)}")
+        out = np.array([float(values.get(n, d)) for n, d in zip(names, default)])
+    else:
+        out = np.asarray(values, dtype=float).reshape(-1)
+        if out.size != len(names):
+            raise ValueError(f"{len(names)} standard uncertainties expected, got {out.size}")
+    if not np.all(np.isfinite(out) & (out >= 0.0)):
+        raise ValueError("standard uncertainties must be finite and not negative")
+    return out
+
+
 def _dof_vector(dof, names: Sequence[str]) -> np.ndarray:
     nu = np.full(len(names), math.inf)
     if dof is None:
@@ -292,8 +308,8 @@ class LPUResult:
 
 
 def lpu(problem: Problem, outputs: Sequence[str] | None = None, *, correlation=None,
-        dof=None, coverage_probability: float = 0.95, step: float = DEFAULT_STEP,
-        truncate_dof: bool = False) -> LPUResult:
+        dof=None, uncertainty=None, coverage_probability: float = 0.95,
+        step: float = DEFAULT_STEP, truncate_dof: bool = False) -> LPUResult:
     """First-order law of propagation of uncertainty on a problem (JCGM 100:2008, 5.1-5.2).
 
     ``y0 = f(mu)``; ``c_i`` by :func:`sensitivity_coefficients`; inputs
@@ -317,6 +333,13 @@ def lpu(problem: Problem, outputs: Sequence[str] | None = None, *, correlation=N
         ``problem.names``, a DataFrame labelled by input names (missing
         entries 0) or a mapping ``{(name_a, name_b): r_ab}``.  Default:
         independent inputs.
+    uncertainty : mapping or sequence of float, optional
+        Standard uncertainties u(x_i) to propagate instead of the distributions' standard
+        deviations (missing: the standard deviation).  The GUM framework takes u = U / k or
+        u = s / sqrt(n) together with nu_i (JCGM 100:2008 4.2.3, G.4); the standard
+        deviation of the scaled and shifted t-distribution, u sqrt(nu / (nu - 2)), belongs to
+        the Monte Carlo method (JCGM 101:2008 6.4.9) and would count the degrees of freedom
+        twice once Welch-Satterthwaite and a t quantile are applied on top.
     dof : mapping or sequence of float, optional
         Degrees of freedom nu_i per input (missing: ``inf``).  The
         Welch-Satterthwaite formula assumes the finite-dof contributions are
@@ -358,6 +381,8 @@ def lpu(problem: Problem, outputs: Sequence[str] | None = None, *, correlation=N
     """
     names = list(problem.names)
     means, u = _moments(problem)
+    if uncertainty is not None:
+        u = _override(uncertainty, names, u)
     r = _correlation_matrix(correlation, names)
     nu = _dof_vector(dof, names)
     finite = np.isfinite(nu)

@@ -536,11 +536,15 @@ def shapley_effects(problem: Problem, outputs=None, correlation=None, *, seed: i
     results: dict[str, dict[str, np.ndarray]] = {}
     info: dict[str, int | str] = {"n_inner": n_inner, "n_variance": n_variance}
     if d and active:
-        full = np.arange(2**d - 1, dtype=np.int64) + 1
-        singles = 2 ** np.arange(d)
-        complements = (2**d - 1) - singles
+        # Bit masks as Python integers (any d); the 2^d - 1 subsets are listed on the exact
+        # path only (the permutation path needs the 2 d + 1 masks below, not 2^d of them).
+        every = (1 << d) - 1
+        singles = np.array([1 << j for j in range(d)], dtype=object)
+        complements = np.array([every - (1 << j) for j in range(d)], dtype=object)
         rng1 = np.random.Generator(block_generator(seed, 1))
         if exact:
+            full = np.arange(every, dtype=np.int64) + 1
+            singles, complements = singles.astype(np.int64), complements.astype(np.int64)
             no = (int(n_outer) if n_outer is not None
                   else max(64, evaluations // (len(full) * n_inner)))
             a = shapley_weights(d)
@@ -563,7 +567,8 @@ def shapley_effects(problem: Problem, outputs=None, correlation=None, *, seed: i
             m = int(permutations) if not named else max(
                 2, (3 * evaluations // 4) // (d * no * n_inner))
             n_full = max(64, (evaluations // 4) // ((2 * d + 1) * n_inner))
-            masks = np.concatenate([singles, complements[complements > 0], [2**d - 1]])
+            masks = np.concatenate([singles, complements[complements > 0],
+                                    np.array([every], dtype=object)])
             sums = _subset_sums(problem, copula, active, masks, np.eye(len(masks)), n_full,
                                 n_inner, rng1)
             moments = _permutation_moments(problem, copula, active, m, no, n_inner, seed)

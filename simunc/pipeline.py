@@ -18,9 +18,10 @@ from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
+from threadpoolctl import threadpool_limits
 
 from simunc.decisions.allocation import Allocation, allocate, input_limits
-from simunc.decisions.design import DESIGN_STREAM, VERIFY_STREAM, Design, stream_seed
+from simunc.decisions.design import DESIGN_STREAM, VERIFY_STREAM, Design, Figures, stream_seed
 from simunc.decisions.requirements import Check
 from simunc.decisions.sweeps import SweepResult, sweep
 from simunc.decisions.tightening import tightening
@@ -415,6 +416,18 @@ class DecisionStage:
 def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
                    parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = ()
                    ) -> DecisionStage:
+    """Tightening, requirements, allocation and sweeps on the design sample.
+
+    BLAS runs on one thread here: the allocation's optimiser and surrogate reduce small
+    matrices whose summation order (and so the last bits, which the bisections amplify to
+    1e-5) would otherwise depend on the machine's thread count.
+    """
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _decisions(prep, sens, gum, parts, extra_sweeps)
+
+
+def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Sequence[Part],
+               extra_sweeps: Sequence[Sweep]) -> DecisionStage:
     study, setpoint, inputs = prep.study, prep.setpoint, list(prep.inputs)
     if not inputs:
         return DecisionStage()
@@ -422,11 +435,7 @@ def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
     settings, ds = prep.settings, study.design
     design = Design(problem, study, setpoint, ds.trials, stream_seed(settings.seed, DESIGN_STREAM),
                     settings.sampling, correlation, model)
-    base = design.figures(design.ones())
-    if not base.finite:
-        raise StudyError("uncertain", f"sizes that make design trials non-physical "
-                         f"({'; '.join(base.problems)} of {ds.trials})", "input sizes small "
-                         "enough that every trial is a physical, subsonic state")
+    _require_physical(design.figures(design.ones()), "design", ds.trials)
     removed = {}
     for out in (b.output for b in study.bands):
         if sens.shapley is not None:
@@ -443,7 +452,9 @@ def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
     checks = limits = allocation = None
     if "requirements" in parts and study.requirements:
         fresh = verify_design()
-        checks = tuple(fresh.figures(fresh.ones()).requirements)
+        written = fresh.figures(fresh.ones())
+        _require_physical(written, "verification", ds.verify_trials)
+        checks = tuple(written.requirements)
         limits = input_limits(design, inputs)
         if any(i.spec.cost is not None for i in inputs):
             assert gum.lpu is not None
@@ -463,6 +474,15 @@ def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
                              sw.spacing) for sw in tuple(study.sweeps) + tuple(extra_sweeps))
     return DecisionStage(design_trials=design.trials, tightening=tight, requirement_checks=checks,
                          input_limits=limits, allocation=allocation, sweeps=sweeps)
+
+
+def _require_physical(fig: Figures, sample: str, trials: int) -> None:
+    """Refuse a sample at the written tolerances with trials that are not physical states, as
+    the main run does (one bad input, one message, exit 2)."""
+    if not fig.finite:
+        raise StudyError("uncertain", f"sizes that make {sample} trials non-physical "
+                         f"({'; '.join(fig.problems)} of {trials})", "input sizes small "
+                         "enough that every trial is a physical, subsonic state")
 
 
 def _sensitivities(result_lpu: LPUResult, problem: Problem, correlation, outputs) -> pd.DataFrame:

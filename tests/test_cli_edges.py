@@ -85,3 +85,27 @@ def test_sample_columns_do_not_clash_and_stale_files_go(demo_text, write_study, 
     assert "input: speed" in frame and "speed" in frame
     assert _run(path, out, capsys, "--trials", "500")[0] == 0
     assert not (out / "samples.csv").exists()  # not left beside results it does not belong to
+
+
+
+@pytest.mark.slow
+def test_non_physical_verification_sample_is_bad_input_like_the_main_run(demo_text, tmp_path,
+                                                                          capsys):
+    # The model chord (200 mm) with u = 50 mm: a negative chord has probability 3.2e-5, so at
+    # seed 1 the main run (2000 trials) and the design sample (1000) happen to be physical and
+    # only the fresh verification run (200 000 trials) meets such trials. It must end as the
+    # main run would: exit 2, one line naming the inputs, and no report.
+    text = demo_text.replace('distribution = "rectangular"\nhalf_width = "0.05 mm"',
+                             'distribution = "normal"\nstandard_uncertainty = "50 mm"')
+    assert text != demo_text
+    text = text.replace("seed = 20261201", "seed = 1").replace("trials = 200000", "trials = 2000")
+    text += "\n[design]\ntrials = 1000\n"
+    path = tmp_path / "study.toml"
+    path.write_text(text)
+    out = tmp_path / "r"
+    code, io = _run(path, out, capsys)
+    assert code == 2
+    lines = io.err.strip().splitlines()
+    assert len(lines) == 1 and "uncertain" in lines[0] and "verification trials non-physical" \
+        in lines[0]
+    assert not (out / "results.json").exists()

@@ -471,3 +471,27 @@ def test_tightening_uses_the_dependence_aware_index_with_correlations(demo_resul
     for name in t.index:
         expected = 100.0 * min(max(float(sh.loc[name, "first_order_full"]), 0.0), 1.0)
         assert t.loc[name, "variance_removed_percent_mach_difference"] == pytest.approx(expected)
+
+
+@pytest.mark.slow
+def test_allocation_does_not_depend_on_the_blas_thread_count(demo_text, tmp_path):
+    # The same study and seed on 1 and on 2 BLAS threads (OPENBLAS_NUM_THREADS is read when
+    # numpy loads, so each run is its own process): the allocation must be identical to the bit.
+    import json
+    import os
+    import subprocess
+    import sys
+
+    text = demo_text.replace("trials = 200000", "trials = 2000")
+    text = text.replace("sobol_base_samples = 4096", "sobol_base_samples = 64")
+    path = tmp_path / "study.toml"
+    path.write_text(text)
+    got = []
+    for threads in ("1", "2"):
+        out = tmp_path / f"r{threads}"
+        env = dict(os.environ, OPENBLAS_NUM_THREADS=threads, OMP_NUM_THREADS=threads)
+        subprocess.run([sys.executable, "-m", "simunc", "allocate", str(path), "--out", str(out)],
+                       check=True, env=env, capture_output=True)
+        got.append(json.loads((out / "results.json").read_text())["requirements"]["allocation"])
+    assert got[0]["cost"] is not None
+    assert got[0] == got[1]

@@ -21,7 +21,13 @@ import pandas as pd
 from threadpoolctl import threadpool_limits
 
 from simunc.decisions.allocation import Allocation, allocate, input_limits
-from simunc.decisions.design import DESIGN_STREAM, VERIFY_STREAM, Design, Figures, stream_seed
+from simunc.decisions.design import (
+    DESIGN_STREAM,
+    VERIFY_STREAM,
+    Design,
+    Figures,
+    stream_seed,
+)
 from simunc.decisions.requirements import Check
 from simunc.decisions.sweeps import SweepResult, sweep
 from simunc.decisions.tightening import tightening
@@ -37,6 +43,7 @@ from simunc.study.schema import Band, RunSettings, Study, Sweep
 from simunc.uncertainty.lpu import LPUResult, lpu, validate
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
+from simunc.uncertainty.sampling import normal_score_correlation
 from simunc.uncertainty.shapley import shapley_effects
 from simunc.uncertainty.sobol import SobolResult, sobol_analysis
 
@@ -261,7 +268,8 @@ class Prepared:
     model: SimilitudeModel
     inputs: tuple[UncertainInput, ...]
     problem: Problem
-    correlation: np.ndarray | None    # correlation matrix of the inputs, [[uncertain]] order
+    correlation: np.ndarray | None    # Pearson correlation of the inputs, [[uncertain]] order
+    copula: np.ndarray | None         # normal-score correlation that reproduces it (sampling)
 
 
 def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
@@ -281,9 +289,17 @@ def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
     setpoint = solve(study)
     model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
     inputs = tuple(build_inputs(study.inputs, setpoint))
+    pearson = study.correlation.matrix if study.correlation else None
+    copula = None
+    if pearson is not None:
+        try:
+            copula = normal_score_correlation(pearson, [i.distribution for i in inputs])
+        except ValueError as exc:
+            raise StudyError("correlations", "the pairs given", "coefficients the inputs' "
+                             f"distributions can have together ({exc})") from exc
     return Prepared(study=study, settings=settings, setpoint=setpoint, model=model, inputs=inputs,
                     problem=similitude_problem(model, setpoint, list(inputs)),
-                    correlation=study.correlation.matrix if study.correlation else None)
+                    correlation=pearson, copula=copula)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -300,7 +316,7 @@ class MonteCarloStage:
 def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
     """Propagate the inputs (fixed or adaptive trials), count conformity, collect warnings."""
     study, settings, setpoint = prep.study, prep.settings, prep.setpoint
-    problem, correlation = prep.problem, prep.correlation
+    problem, correlation = prep.problem, prep.copula
     monitor = TrialMonitor(study, prep.model)
     p = settings.coverage_probability
     if settings.adaptive:
@@ -366,7 +382,7 @@ def sensitivity_stage(prep: Prepared, mc: MonteCarloStage) -> SensitivityStage:
     ranking = _ranking(sobol, mc.statistics, study, list(prep.inputs))
     want_shapley = sens.shapley == "yes" or (sens.shapley == "auto"
                                               and prep.correlation is not None)
-    shapley = shapley_effects(problem, outputs, prep.correlation, seed=settings.seed) \
+    shapley = shapley_effects(problem, outputs, prep.copula, seed=settings.seed) \
         if prep.inputs and outputs and want_shapley else None
     return SensitivityStage(sobol_result=sobol_result, sobol=sobol, ranking=ranking,
                             shapley=shapley)
@@ -434,7 +450,7 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
     problem, correlation, model = prep.problem, prep.correlation, prep.model
     settings, ds = prep.settings, study.design
     design = Design(problem, study, setpoint, ds.trials, stream_seed(settings.seed, DESIGN_STREAM),
-                    settings.sampling, correlation, model)
+                    settings.sampling, prep.copula, model)
     _require_physical(design.figures(design.ones()), "design", ds.trials)
     removed = {}
     for out in (b.output for b in study.bands):
@@ -446,7 +462,7 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
 
     def verify_design():
         return Design(problem, study, setpoint, ds.verify_trials,
-                      stream_seed(settings.seed, VERIFY_STREAM), settings.sampling, correlation,
+                      stream_seed(settings.seed, VERIFY_STREAM), settings.sampling, prep.copula,
                       model)
 
     checks = limits = allocation = None

@@ -55,9 +55,11 @@ TARGET_RATIO = 0.25
 
 
 def demo():
-    """The demo study, its Problem and the outputs of its tolerance bands."""
+    """The demo study, its Problem, the outputs of its tolerance bands and the copula
+    correlation of its inputs: the path ``simunc run`` takes."""
     study = load_study(STUDY)
-    return study, prepare(study).problem, [b.output for b in study.bands]
+    prep = prepare(study)
+    return study, prep.problem, [b.output for b in study.bands], prep.copula
 
 
 def _maxrss_bytes(usage) -> int:
@@ -66,11 +68,11 @@ def _maxrss_bytes(usage) -> int:
 
 def memory_child(trials: int, seed: int) -> None:
     """Run in the child: one streaming propagation, then print JSON figures."""
-    _, problem, _ = demo()
-    propagate(problem, 1000, seed)                  # imports and first calls
+    _, problem, _, corr = demo()
+    propagate(problem, 1000, seed, correlation=corr)                  # imports and first calls
     before = _resident_bytes()
     t = time.perf_counter()
-    r = propagate(problem, trials, seed)
+    r = propagate(problem, trials, seed, correlation=corr)
     seconds = time.perf_counter() - t
     rr = r["reynolds_ratio"]
     print(json.dumps({"trials": r.trials, "seconds": seconds, "rss_after_setup": before,
@@ -99,7 +101,7 @@ def main(argv=None) -> int:
     ap.add_argument("--skip-memory", action="store_true")
     ap.add_argument("--memory-child", type=int, default=None, help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
-    study, problem, bands = demo()
+    study, problem, bands, corr = demo()
     seed = study.run.seed if args.seed is None else args.seed
     if args.memory_child is not None:
         memory_child(args.memory_child, seed)
@@ -112,12 +114,12 @@ def main(argv=None) -> int:
     print(f"block / default chunk   {BLOCK_SIZE:_} / {4 * BLOCK_SIZE:_} trials")
 
     # (a) throughput
-    propagate(problem, 1000, seed)
+    propagate(problem, 1000, seed, correlation=corr)
     print(f"(a) throughput at {args.trials:_} trials (streaming statistics of every output)")
     rates = {}
     for method in [m for m in args.methods.split(",") if m]:
         t = time.perf_counter()
-        r = propagate(problem, args.trials, seed, method=method)
+        r = propagate(problem, args.trials, seed, method=method, correlation=corr)
         sec = time.perf_counter() - t
         rates[method] = args.trials / sec
         rr = r["reynolds_ratio"]
@@ -159,7 +161,7 @@ def main(argv=None) -> int:
         counts, conv, sec = [], [], 0.0
         for s in range(seed, seed + args.seeds):
             t = time.perf_counter()
-            r = adaptive(problem, s, n_digits=2, method=method, outputs=bands,
+            r = adaptive(problem, s, n_digits=2, method=method, outputs=bands, correlation=corr,
                          coverage_probability=study.run.coverage_probability)
             sec += time.perf_counter() - t
             counts.append(r.trials)

@@ -12,12 +12,14 @@ This is the Python API behind ``simunc run``::
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
+from scipy import special
 from threadpoolctl import threadpool_limits
 
 from simunc.decisions.allocation import Allocation, allocate, input_limits
@@ -46,6 +48,7 @@ from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
 from simunc.uncertainty.sampling import normal_score_correlation
 from simunc.uncertainty.shapley import shapley_effects
 from simunc.uncertainty.sobol import SobolResult, sobol_analysis
+from simunc.uncertainty.statistics import quantile_standard_error
 
 #: The optional parts of a run.
 Part = Literal["requirements", "sweeps"]
@@ -121,12 +124,17 @@ def output_order(keys) -> list[str]:
 
 
 def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
-             inputs: list[UncertainInput]) -> pd.DataFrame:
+             inputs: list[UncertainInput],
+             shapley: dict[str, pd.DataFrame] | None = None) -> pd.DataFrame:
     """Rank inputs by the share of a tolerance band their variance takes.
 
-    For each matched group, ``band_share = 2 sqrt(ST var(y)) / tolerance``:
-    the expanded (k = 2) uncertainty the input brings, as a fraction of the
-    band half-width.  Inputs are ranked by their largest share.
+    For each matched group, ``band_share = 2 sqrt(s_i var(y)) / tolerance``: the expanded
+    (k = 2) uncertainty the input brings, as a fraction of the band half-width, with ``s_i``
+    the input's share of ``var(y)`` in ONE decomposition of the run's own variance: the
+    Sobol total index ST for independent inputs, the Shapley effect when the inputs are
+    correlated (an ST from an independent-input design times the variance of the correlated
+    run would mix two variances).  ``variance_share_<output>`` is the s_i used.  Inputs are
+    ranked by their largest share.
     """
     rows = []
     for inp in inputs:
@@ -135,9 +143,12 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
         shares = []
         for band in study.bands:
             st = float(max(sobol[band.output].loc[inp.name, "ST"], 0.0))
+            part = st if shapley is None else float(
+                max(shapley[band.output].loc[inp.name, "Shapley"], 0.0))
             u = float(stats.loc[band.output, "standard_uncertainty"])
-            share = 2.0 * np.sqrt(st) * u / band.tolerance
+            share = 2.0 * np.sqrt(part) * u / band.tolerance
             row[f"ST_{band.output}"] = st
+            row[f"variance_share_{band.output}"] = part
             row[f"band_share_{band.group}"] = share
             shares.append(share)
         row["largest_band_share"] = max(shares) if shares else 0.0
@@ -379,11 +390,12 @@ def sensitivity_stage(prep: Prepared, mc: MonteCarloStage) -> SensitivityStage:
                                   groups=sens.groups or None) if prep.inputs and outputs else None
     sobol = sobol_result.first_total if sobol_result else {
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
-    ranking = _ranking(sobol, mc.statistics, study, list(prep.inputs))
     want_shapley = sens.shapley == "yes" or (sens.shapley == "auto"
                                               and prep.correlation is not None)
     shapley = shapley_effects(problem, outputs, prep.copula, seed=settings.seed) \
         if prep.inputs and outputs and want_shapley else None
+    ranking = _ranking(sobol, mc.statistics, study, list(prep.inputs),
+                       shapley if prep.correlation is not None else None)
     return SensitivityStage(sobol_result=sobol_result, sobol=sobol, ranking=ranking,
                             shapley=shapley)
 
@@ -412,7 +424,9 @@ def gum_stage(prep: Prepared, mc: MonteCarloStage) -> GumStage:
               uncertainty={i.name: i.gum_standard_uncertainty for i in inputs
                            if np.isfinite(i.dof)},
               correlation=prep.correlation)
-    return GumStage(lpu=guf, validation=validate(guf, stats.loc[varying], n_digits=2),
+    return GumStage(lpu=guf, validation=validate(guf, stats.loc[varying], n_digits=2,
+                                                 endpoint_se=_endpoint_se(mc, varying),
+                                                 trials=mc.engine.trials),
                     components=component_split(guf, inputs, [b.output for b in prep.study.bands
                                                              if b.output in varying]))
 
@@ -490,6 +504,27 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
                              sw.spacing) for sw in tuple(study.sweeps) + tuple(extra_sweeps))
     return DecisionStage(design_trials=design.trials, tightening=tight, requirement_checks=checks,
                          input_limits=limits, allocation=allocation, sweeps=sweeps)
+
+
+def _endpoint_se(mc: MonteCarloStage, outputs: Sequence[str]) -> dict[str, tuple[float, float]]:
+    """Standard errors of the Monte Carlo coverage-interval endpoints of each output: from the
+    kept trials (large-sample quantile formula), or, when the run streamed, with the sparsity
+    of a normal distribution of the same u (JCGM 101:2008 7.9 asks the endpoints to be stable
+    to delta before the GUF is judged against them)."""
+    p = float(mc.engine.coverage_probability)
+    a = 0.5 * (1.0 - p)
+    out = {}
+    for k in outputs:
+        y = None if mc.engine.y is None else mc.engine.y.get(k)
+        if y is not None:
+            out[k] = (quantile_standard_error(np.asarray(y), a),
+                      quantile_standard_error(np.asarray(y), 1.0 - a))
+        else:
+            u = float(mc.statistics.loc[k, "standard_uncertainty"])
+            se = math.sqrt(a * (1.0 - a) / mc.engine.trials) * u / float(
+                np.exp(-0.5 * special.ndtri(a) ** 2) / math.sqrt(2.0 * math.pi))
+            out[k] = (se, se)
+    return out
 
 
 def _require_physical(fig: Figures, sample: str, trials: int) -> None:

@@ -352,7 +352,9 @@ def test_validate_accepts_tables_and_checks_coverage_probability():
     table = pd.DataFrame([{"output": "y", "low": -3.9, "high": 3.95, "coverage_probability": 0.95}]
                          ).set_index("output")
     v = validate(r, table)
-    assert list(v.columns)[-4:] == ["d_low", "d_high", "delta", "validated"]
+    assert list(v.columns)[6:9] == ["d_low", "d_high", "delta"]
+    assert list(v.columns)[-3:] == ["verdict", "trials_needed", "validated"]
+    assert v.loc["y", "verdict"] == ("validated" if v.loc["y", "validated"] else "not validated")
     assert v.loc["y", "d_low"] == pytest.approx(abs(-2 * stats.norm.ppf(0.975) + 3.9), rel=1e-9)
     assert v.loc["y", "d_high"] == pytest.approx(abs(2 * stats.norm.ppf(0.975) - 3.95), rel=1e-9)
     # delta from a given u (e.g. the MC one) instead of the GUF u_c.
@@ -572,3 +574,45 @@ def test_run_gives_the_lpu_the_gum_uncertainty_of_a_type_a_input(demo_dict):
     assert e["standard_uncertainty"] == pytest.approx(uc, rel=1e-12)
     assert e["effective_dof"] == pytest.approx(nu_eff, rel=1e-9)
     assert e["expanded_uncertainty"] == pytest.approx(stats.t.ppf(0.975, nu_eff) * uc, rel=1e-9)
+
+
+# ---------------------------------------------------------------------------------------------
+# JCGM 101:2008 clause 8 only judges the GUF against Monte Carlo endpoints that are stable to
+# delta (7.9: twice their standard deviation at most delta); otherwise: inconclusive.
+# ---------------------------------------------------------------------------------------------
+def _additive_normal():
+    return Problem(list("abcd"), [stats.norm()] * 4, lambda x: {"y": sum(x.values())})
+
+
+def _endpoints(y, p=0.95):
+    from simunc.uncertainty.statistics import quantile_standard_error
+    a = 0.5 * (1.0 - p)
+    return (quantile_standard_error(y, a), quantile_standard_error(y, 1.0 - a))
+
+
+def test_validation_is_inconclusive_on_a_short_run():
+    # JCGM 101:2008 9.2.2 (four standard normal inputs, GUF exact: +-3.92, u = 2, delta = 0.05 at
+    # two digits). At 2000 trials the endpoints' standard error is about
+    # sqrt(0.025 x 0.975 / 2000) / phi(1.96) x 2 = 0.12 > delta / 2: no verdict possible.
+    p = _additive_normal()
+    _, y = monte_carlo(p, 2000, seed=3)
+    s = summarize(y["y"])
+    v = validate(lpu(p), {"y": (s["low"], s["high"])}, endpoint_se={"y": _endpoints(y["y"])},
+                 trials=2000).loc["y"]
+    assert v["verdict"] == "inconclusive" and not v["validated"]
+    se = math.sqrt(0.025 * 0.975 / 2000) / stats.norm.pdf(1.96) * 2.0
+    assert v["spread"] == pytest.approx(2.0 * se, rel=0.25)
+    # trials for 2 se <= delta: 2000 (2 se / delta)^2, about 46 000
+    assert v["trials_needed"] == pytest.approx(2000 * (2.0 * se / 0.05) ** 2, rel=0.5)
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_validation_verdict_is_stable_once_the_endpoints_are(seed):
+    # 400 000 trials: 2 se = 0.017 <= delta = 0.05, and the GUF of a linear model of normal
+    # inputs is exact, so every seed must say "validated".
+    p = _additive_normal()
+    _, y = monte_carlo(p, 400_000, seed=100 + seed)
+    s = summarize(y["y"])
+    v = validate(lpu(p), {"y": (s["low"], s["high"])}, endpoint_se={"y": _endpoints(y["y"])},
+                 trials=400_000).loc["y"]
+    assert v["verdict"] == "validated" and v["trials_needed"] == 0

@@ -495,3 +495,19 @@ def test_allocation_does_not_depend_on_the_blas_thread_count(demo_text, tmp_path
         got.append(json.loads((out / "results.json").read_text())["requirements"]["allocation"])
     assert got[0]["cost"] is not None
     assert got[0] == got[1]
+
+
+@pytest.mark.slow
+def test_ranking_shares_one_decomposition_of_the_run_variance(demo_result):
+    # The demo correlates two transducers: each input's band share is 2 sqrt(Sh var y) / tol with
+    # the Shapley effect Sh of the SAME (correlated) run, whose effects add up to var y (Song,
+    # Nelson & Staum 2016), not the Sobol ST of an independent-input design times that variance.
+    r, st = demo_result.ranking, demo_result.statistics
+    for band in demo_result.study.bands:
+        sh = demo_result.shapley[band.output]["Shapley"].clip(lower=0.0)
+        share = r[f"variance_share_{band.output}"]
+        assert np.allclose(share.loc[sh.index], sh, rtol=0, atol=0)
+        u = float(st.loc[band.output, "standard_uncertainty"])
+        assert np.allclose(r[f"band_share_{band.group}"],
+                           2.0 * np.sqrt(share) * u / band.tolerance, rtol=1e-15)
+        assert float(demo_result.shapley[band.output]["Shapley"].sum()) == pytest.approx(1.0)

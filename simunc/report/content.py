@@ -231,12 +231,17 @@ def build(result) -> list[Block]:
                             "GUF low": v["guf_low"].values, "GUF high": v["guf_high"].values,
                             "MC low": v["mc_low"].values, "MC high": v["mc_high"].values,
                             "d_low": v["d_low"].values, "d_high": v["d_high"].values,
-                            "delta": v["delta"].values, "validated": v["validated"].values})
+                            "delta": v["delta"].values, "2 se (MC)": v["spread"].values,
+                            "verdict": v["verdict"].values,
+                            "trials needed": v["trials_needed"].values})
         b.append(Block("paragraph", "Law of propagation of uncertainty (first order, sensitivity "
                        "coefficients by central differences, the uncertainties package for the "
                        "covariance algebra) with k from the normal distribution. The GUF interval "
                        "is validated when both endpoint differences d are at most the numerical "
-                       "tolerance delta of two significant digits of u."))
+                       "tolerance delta of two significant digits of u, and only judged when the "
+                       "Monte Carlo endpoints are stable to delta (twice their standard error at "
+                       "most delta, JCGM 101 7.9); otherwise the verdict is inconclusive at this "
+                       "number of trials, with the trials that would make it stable."))
         b.append(Block("table", _table(tab)))
         if result.components is not None and len(result.components):
             b.append(Block("paragraph", "Systematic (fixed over a test) and random (point to point) "

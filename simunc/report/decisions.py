@@ -101,9 +101,12 @@ def tightening_blocks(result) -> list[Block]:
                            "a band half-width)."))
         b.append(Block("figure", "tightening.png", caption="Drop of the expanded uncertainty "
                        "(k = 2), in tolerance half-widths, when one input's tolerance is halved."))
-    b.append(Block("paragraph", "band share = 2 sqrt(ST var(y)) / tolerance: the expanded (k = 2) "
+    basis = ("the Shapley effect (the inputs are correlated)" if result.study.correlation
+             is not None else "the Sobol total index ST")
+    b.append(Block("paragraph", "band share = 2 sqrt(s var(y)) / tolerance: the expanded (k = 2) "
                    "uncertainty an input brings to a matched group, as a fraction of that group's "
-                   "tolerance half-width, from the Sobol total index."))
+                   f"tolerance half-width, with s its share of var(y) from {basis} "
+                   "(column variance_share)."))
     b.append(Block("table", table(result.ranking.reset_index())))
     return b
 

@@ -127,7 +127,9 @@ def results_dict(result) -> dict:
                   "coverage_factor": row["coverage_factor"],
                   "expanded_uncertainty": row["expanded_uncertainty"],
                   "interval": [row["low"], row["high"]],
-                  **{k: result.validation.loc[out, k] for k in ("d_low", "d_high", "delta", "validated")}}
+                  **{k: result.validation.loc[out, k] for k in ("d_low", "d_high", "delta", "se_low",
+                                                                 "se_high", "verdict",
+                                                                 "trials_needed", "validated")}}
             for out, row in result.lpu.estimates.iterrows()},
         "conformity": {
             "probability": dict(result.conformity),

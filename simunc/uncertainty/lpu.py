@@ -457,7 +457,9 @@ def _interval(item, p_expected: float, key: str) -> tuple[float, float]:
 
 
 def validate(result: LPUResult, mc_intervals, n_digits: int = 2, *,
-             uncertainty: Mapping[str, float] | None = None) -> pd.DataFrame:
+             uncertainty: Mapping[str, float] | None = None,
+             endpoint_se: Mapping[str, tuple[float, float]] | None = None,
+             trials: int | None = None) -> pd.DataFrame:
     """Validate the GUM uncertainty framework against Monte Carlo (JCGM 101:2008, 8.2).
 
     With the GUF interval ``y0 -+ U_p`` and the Monte Carlo probabilistically
@@ -468,6 +470,13 @@ def validate(result: LPUResult, mc_intervals, n_digits: int = 2, *,
     the GUF is validated when both are at most the numerical tolerance
     ``delta`` of u(y) at ``n_digits`` significant digits
     (:func:`numerical_tolerance`, JCGM 101:2008 7.9.2).
+
+    The comparison means something only when the Monte Carlo endpoints are themselves stable
+    to ``delta`` (JCGM 101:2008 7.9: twice their standard deviation at most ``delta``).
+    Given ``endpoint_se`` (standard errors of ``y_low`` and ``y_high``) and ``trials``, the
+    verdict is ``"validated"`` or ``"not validated"`` only when ``2 max(se) <= delta``, and
+    ``"inconclusive"`` otherwise, with ``trials_needed`` = trials (2 max(se) / delta)^2 (the
+    standard errors fall as 1 / sqrt(trials)).
 
     Parameters
     ----------
@@ -490,7 +499,10 @@ def validate(result: LPUResult, mc_intervals, n_digits: int = 2, *,
     pandas.DataFrame
         Index ``output``; columns ``value``, ``expanded_uncertainty``,
         ``guf_low``, ``guf_high``, ``mc_low``, ``mc_high``, ``d_low``,
-        ``d_high``, ``delta`` [unit of y] and ``validated`` (bool).
+        ``d_high``, ``delta``, ``se_low``, ``se_high``, ``spread`` = 2 max(se) [unit of y]
+        (NaN without ``endpoint_se``), ``verdict`` (``validated``, ``not validated`` or
+        ``inconclusive``), ``trials_needed`` (0 unless inconclusive) and ``validated``
+        (bool: the verdict is ``validated``).
 
     Examples
     --------
@@ -522,10 +534,21 @@ def validate(result: LPUResult, mc_intervals, n_digits: int = 2, *,
         u_delta = float(e["standard_uncertainty"]) if uncertainty is None else float(uncertainty[key])
         delta = numerical_tolerance(u_delta, n_digits)
         d_low, d_high = abs(y0 - big_u - low), abs(y0 + big_u - high)
+        agree = bool(d_low <= delta and d_high <= delta)
+        se_low = se_high = spread = math.nan
+        verdict, needed = ("validated" if agree else "not validated"), 0
+        if endpoint_se is not None and key in endpoint_se:
+            se_low, se_high = (float(v) for v in endpoint_se[key])
+            spread = 2.0 * max(se_low, se_high)
+            if not spread <= delta:
+                verdict = "inconclusive"
+                needed = (int(math.ceil(trials * (spread / delta) ** 2))
+                          if trials and delta > 0 else 0)
         rows[key] = {"value": y0, "expanded_uncertainty": big_u, "guf_low": y0 - big_u,
                      "guf_high": y0 + big_u, "mc_low": low, "mc_high": high, "d_low": d_low,
-                     "d_high": d_high, "delta": delta,
-                     "validated": bool(d_low <= delta and d_high <= delta)}
+                     "d_high": d_high, "delta": delta, "se_low": se_low, "se_high": se_high,
+                     "spread": spread, "verdict": verdict, "trials_needed": needed,
+                     "validated": verdict == "validated"}
     table = pd.DataFrame.from_dict(rows, orient="index")
     table.index.name = "output"
     return table

@@ -272,6 +272,26 @@ def coverage_factor(low: float, high: float, standard_uncertainty: float) -> flo
     return float((high - low) / (2.0 * u)) if u > 0.0 else math.nan
 
 
+def quantile_standard_error(y: np.ndarray, prob: float) -> float:
+    """Standard error of the sample ``prob``-quantile of ``y`` (large-sample formula).
+
+    ``Var(q_a) = a (1 - a) / (n f(y_a)^2)`` (H. A. David, H. N. Nagaraja, *Order
+    Statistics*, 3rd ed., Wiley, 2003, 10.2, from memory of that book), with the sparsity
+    ``1 / f(y_a)`` estimated by ``(q_{a+h} - q_{a-h}) / (2 h)``, ``h = min(a, 1 - a) / 5``.
+    For a standard normal sample at a = 0.025, sqrt(n) times the standard error is
+    sqrt(0.025 x 0.975) / phi(1.96) = 2.67:
+
+    >>> y = np.random.default_rng(1).standard_normal(400_000)
+    >>> round(float(quantile_standard_error(y, 0.025) * np.sqrt(y.size)), 1)
+    2.7
+    """
+    y = np.asarray(y, dtype=float)
+    a = float(prob)
+    h = 0.2 * min(a, 1.0 - a)
+    lo, hi = np.quantile(y, [a - h, a + h])
+    return math.sqrt(a * (1.0 - a) / y.size) * float(hi - lo) / (2.0 * h)
+
+
 def numerical_tolerance(u: float, n_digits: int = 2) -> float:
     """Numerical tolerance of a value stated to ``n_digits`` significant digits.
 

@@ -40,7 +40,7 @@ from simunc.similitude.inputs import UncertainInput, build_inputs, similitude_pr
 from simunc.similitude.model import SimilitudeModel, trial_problems
 from simunc.similitude.setpoint import SetPoint, build_model, solve
 from simunc.similitude.testplan import TestPlan, plan
-from simunc.study.catalogue import describe_output
+from simunc.study.catalogue import CONDITION_TARGETS, describe_output
 from simunc.study.schema import Band, RunSettings, Study, Sweep
 from simunc.uncertainty.lpu import LPUResult, lpu, validate
 from simunc.uncertainty.problem import Problem
@@ -226,19 +226,23 @@ def _engine_statistics(res, setpoint: SetPoint) -> pd.DataFrame:
 
 
 def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
-    """Systematic and random standard uncertainty of outputs from the LPU budget.
+    """Systematic, random and condition standard uncertainty of outputs from the LPU budget.
 
-    ``u_sys^2`` sums the contributions of inputs marked ``component = "systematic"``
-    (fixed over a test: shared by every point of a test matrix), ``u_rand^2`` those
-    marked ``"random"`` (point to point); a correlation term between two inputs of
-    one component counts with that component (ASME PTC 19.1 and AIAA S-071A keep the two
-    apart in the same way).
+    ``u_sys^2`` sums the contributions of inputs marked ``component = "systematic"`` (fixed
+    over a test: shared by every point of a test matrix), ``u_rand^2`` those marked
+    ``"random"`` (point to point) (ASME PTC 19.1 and AIAA S-071A keep the two apart);
+    ``u_cond^2`` those of inputs on the full-scale condition alone (day temperature, flight
+    speed: not a test error, the spread of what is reproduced). A correlation term between
+    two inputs of one category counts with it; terms between categories are kept visibly as
+    ``mixed_variance`` (signed, unit of y squared), so that
+    ``u_sys^2 + u_rand^2 + u_cond^2 + mixed_variance = u_c^2``.
     """
-    comp = {i.name: i.component for i in inputs}
+    comp = {i.name: ("condition" if all(t in CONDITION_TARGETS for t in i.targets)
+                     else i.component) for i in inputs}
     rows = []
     for out in outputs:
         bud = result_lpu.budget(out)
-        part = {"systematic": 0.0, "random": 0.0, "mixed": 0.0}
+        part = {"systematic": 0.0, "random": 0.0, "condition": 0.0, "mixed": 0.0}
         for term, row in bud.iterrows():
             if row["kind"] == "correlation":
                 a, b = term[2:-1].split(", ", 1)
@@ -249,6 +253,8 @@ def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
             part[key] += float(row["contribution"])
         rows.append({"output": out, "u_systematic": float(np.sqrt(max(part["systematic"], 0.0))),
                      "u_random": float(np.sqrt(max(part["random"], 0.0))),
+                     "u_condition": float(np.sqrt(max(part["condition"], 0.0))),
+                     "mixed_variance": part["mixed"],
                      "u_combined": float(result_lpu.estimates.loc[out, "standard_uncertainty"])})
     return pd.DataFrame(rows).set_index("output")
 

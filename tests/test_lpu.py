@@ -616,3 +616,31 @@ def test_validation_verdict_is_stable_once_the_endpoints_are(seed):
     v = validate(lpu(p), {"y": (s["low"], s["high"])}, endpoint_se={"y": _endpoints(y["y"])},
                  trials=400_000).loc["y"]
     assert v["verdict"] == "validated" and v["trials_needed"] == 0
+
+
+def test_component_split_keeps_the_cross_terms_and_the_condition_apart():
+    # y = 2 a - b + 0.5 c; a systematic (u 0.1), b random (u 0.2), r(a, b) = 0.5, c the
+    # full-scale day temperature (u 0.4). JCGM 100:2008 eq. 13 by hand:
+    # u_sys^2 = (2 x 0.1)^2 = 0.04, u_rand^2 = 0.04, u_cond^2 = 0.04,
+    # cross term 2 (2)(-1)(0.5)(0.1)(0.2) = -0.04, u_c^2 = 0.08.
+    from types import SimpleNamespace
+
+    from simunc.pipeline import component_split
+
+    p = Problem(["a", "b", "c"], [stats.norm(0, 0.1), stats.norm(0, 0.2), stats.norm(0, 0.4)],
+                lambda x: {"y": 2.0 * x["a"] - x["b"] + 0.5 * x["c"]})
+    r = lpu(p, correlation={("a", "b"): 0.5})
+    inputs = [SimpleNamespace(name="a", component="systematic",
+                              targets=("stagnation_pressure_indication",)),
+              SimpleNamespace(name="b", component="random",
+                              targets=("stagnation_pressure_control",)),
+              SimpleNamespace(name="c", component="systematic",
+                              targets=("full_scale_temperature",))]
+    row = component_split(r, inputs, ["y"]).loc["y"]
+    assert row["u_systematic"] == pytest.approx(0.2, rel=1e-9)
+    assert row["u_random"] == pytest.approx(0.2, rel=1e-9)
+    assert row["u_condition"] == pytest.approx(0.2, rel=1e-9)
+    assert row["mixed_variance"] == pytest.approx(-0.04, rel=1e-9)
+    assert row["u_combined"] == pytest.approx(math.sqrt(0.08), rel=1e-9)
+    assert row["u_systematic"] ** 2 + row["u_random"] ** 2 + row["u_condition"] ** 2 \
+        + row["mixed_variance"] == pytest.approx(row["u_combined"] ** 2, rel=1e-12)

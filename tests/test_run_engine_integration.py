@@ -68,7 +68,10 @@ def test_correlated_transducers_against_gum_formula(study):
 def test_systematic_and_random_components(study):
     r = simunc.run(study, trials=20_000, seed=2)
     comp = r.components.loc["reynolds_ratio"]
-    # The LPU parts add in quadrature to the combined u when no correlation mixes components.
-    assert comp["u_systematic"] ** 2 + comp["u_random"] ** 2 == pytest.approx(comp["u_combined"] ** 2,
-                                                                              rel=1e-9)
-    assert comp["u_random"] > 0.0 and comp["u_systematic"] > comp["u_random"]
+    # The LPU parts add in quadrature to the combined u (JCGM 100:2008 eq. 13); the demo's
+    # correlated transducers are both systematic, so nothing mixes categories.
+    assert comp["mixed_variance"] == 0.0
+    assert comp["u_systematic"] ** 2 + comp["u_random"] ** 2 + comp["u_condition"] ** 2 == \
+        pytest.approx(comp["u_combined"] ** 2, rel=1e-9)
+    # the full-scale day temperature is the condition, not a test error
+    assert comp["u_condition"] > comp["u_systematic"] > comp["u_random"] > 0.0

@@ -244,8 +244,11 @@ def build(result) -> list[Block]:
                        "number of trials, with the trials that would make it stable."))
         b.append(Block("table", _table(tab)))
         if result.components is not None and len(result.components):
-            b.append(Block("paragraph", "Systematic (fixed over a test) and random (point to point) "
-                           "standard uncertainty of the matched groups, from the LPU budget:"))
+            b.append(Block("paragraph", "Systematic (fixed over a test), random (point to point) "
+                           "and condition (the spread of the full-scale condition itself, not a "
+                           "test error) standard uncertainty of the matched groups, from the LPU "
+                           "budget; mixed_variance holds the correlation terms between inputs of "
+                           "different categories, so the squares add up to u_combined²:"))
             b.append(Block("table", _table(result.components.reset_index())))
         for k in keys[:2]:
             bud = result.lpu.budget(k).reset_index()

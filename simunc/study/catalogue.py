@@ -102,6 +102,9 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
            "full-scale frequency deviation"),
 )}
 
+#: Targets that are the full-scale condition itself (not a test error): reported apart.
+CONDITION_TARGETS = frozenset(t.name for t in TARGETS.values() if t.name.startswith("full_scale_"))
+
 #: Similarity groups the model computes: name -> (label, "ratio" or "difference").
 GROUPS: dict[str, tuple[str, str]] = {
     "reynolds": ("Reynolds number rho U L / mu", "ratio"),

@@ -12,14 +12,12 @@ This is the Python API behind ``simunc run``::
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
-from scipy import special
 from threadpoolctl import threadpool_limits
 
 from simunc.decisions.allocation import Allocation, allocate, input_limits
@@ -48,7 +46,8 @@ from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
 from simunc.uncertainty.sampling import normal_score_correlation
 from simunc.uncertainty.shapley import shapley_effects
 from simunc.uncertainty.sobol import SobolResult, sobol_analysis
-from simunc.uncertainty.statistics import quantile_standard_error
+from simunc.uncertainty.statistics import (normal_quantile_standard_error,
+                                           quantile_standard_error)
 
 #: The optional parts of a run.
 Part = Literal["requirements", "sweeps"]
@@ -526,9 +525,8 @@ def _endpoint_se(mc: MonteCarloStage, outputs: Sequence[str]) -> dict[str, tuple
             out[k] = (quantile_standard_error(np.asarray(y), a),
                       quantile_standard_error(np.asarray(y), 1.0 - a))
         else:
-            u = float(mc.statistics.loc[k, "standard_uncertainty"])
-            se = math.sqrt(a * (1.0 - a) / mc.engine.trials) * u / float(
-                np.exp(-0.5 * special.ndtri(a) ** 2) / math.sqrt(2.0 * math.pi))
+            se = normal_quantile_standard_error(
+                float(mc.statistics.loc[k, "standard_uncertainty"]), mc.engine.trials, a)
             out[k] = (se, se)
     return out
 

@@ -74,6 +74,7 @@ from dataclasses import dataclass
 from typing import Mapping
 
 import numpy as np
+from scipy import special
 
 #: Default number of histogram bins of :class:`HistogramQuantiles`.
 HISTOGRAM_BINS = 2**18
@@ -290,6 +291,19 @@ def quantile_standard_error(y: np.ndarray, prob: float) -> float:
     h = 0.2 * min(a, 1.0 - a)
     lo, hi = np.quantile(y, [a - h, a + h])
     return math.sqrt(a * (1.0 - a) / y.size) * float(hi - lo) / (2.0 * h)
+
+
+def normal_quantile_standard_error(u: float, n: int, prob: float) -> float:
+    """The standard error of :func:`quantile_standard_error` for a normal output of standard
+    deviation ``u`` from ``n`` trials: ``sqrt(a (1 - a) / n) u / phi(z_a)`` (for a run that kept
+    no trials to estimate the sparsity from).
+
+    >>> round(normal_quantile_standard_error(1.0, 1, 0.025), 2)
+    2.67
+    """
+    a = float(prob)
+    z = float(special.ndtri(a))
+    return math.sqrt(a * (1.0 - a) / n) * u * math.sqrt(2.0 * math.pi) * math.exp(0.5 * z * z)
 
 
 def numerical_tolerance(u: float, n_digits: int = 2) -> float:

@@ -86,6 +86,8 @@ class Result:
     input_limits: pd.DataFrame | None = None
     allocation: Allocation | None = None
     sweeps: tuple[SweepResult, ...] = ()
+    #: What was assumed where an analysis scaled a correlated input (for the report).
+    correlated_scaling: tuple[str, ...] = ()
     design_trials: int = 0
 
     @property
@@ -353,7 +355,7 @@ def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
         res = propagate(problem, settings.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=settings.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor)
-    warnings = monitor.warnings()
+    warnings = monitor.warnings() + list(setpoint.coverage)
     if not setpoint.feasible:
         top = min((b.priority for b in study.bands if b.solve), default=1)
         first_ok = all(abs(setpoint.mismatch.get(b.group, 0.0)) < 1e-6 for b in study.bands
@@ -446,6 +448,7 @@ class DecisionStage:
     input_limits: pd.DataFrame | None = None
     allocation: Allocation | None = None
     sweeps: tuple[SweepResult, ...] = ()
+    correlated_scaling: tuple[str, ...] = ()
 
 
 def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
@@ -508,7 +511,37 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
         sweeps = tuple(sweep(design, sw.key, sw.inputs, sw.scale[0], sw.scale[1], sw.points,
                              sw.spacing) for sw in tuple(study.sweeps) + tuple(extra_sweeps))
     return DecisionStage(design_trials=design.trials, tightening=tight, requirement_checks=checks,
-                         input_limits=limits, allocation=allocation, sweeps=sweeps)
+                         input_limits=limits, allocation=allocation, sweeps=sweeps,
+                         correlated_scaling=_correlated_scaling(prep, allocation, sweeps))
+
+
+def _correlated_scaling(prep: Prepared, allocation: Allocation | None,
+                        sweeps: Sequence[SweepResult]) -> tuple[str, ...]:
+    """One statement per correlated input an analysis scales: its r is kept, which assumes the
+    shared part of the error scales with it."""
+    if prep.correlation is None:
+        return ()
+    names = [i.name for i in prep.inputs]
+    r = np.asarray(prep.correlation)
+    scaled: dict[str, list[str]] = {n: ["the tightening ranking (halved)"] for n in names}
+    if allocation is not None:
+        for n, s in zip(names, allocation.scale):
+            if abs(float(s) - 1.0) > 1e-12:
+                scaled[n].append(f"the allocation (×{float(s):.3g})")
+    for sw in sweeps:
+        for n in sw.inputs:
+            scaled[n].append(f"sweep {sw.key}")
+    notes = []
+    for j, n in enumerate(names):
+        partners = [f"{names[k]} (r = {r[j, k]:.3g})" for k in range(len(names))
+                    if k != j and r[j, k] != 0.0]
+        if partners:
+            notes.append(f"{n}, correlated with {', '.join(partners)}, is scaled by "
+                         f"{', '.join(scaled[n])} with r kept: this assumes the shared part of "
+                         "the error (e.g. a common calibration reference) scales with it. If the "
+                         "shared part stays, write it as an input of its own acting on both "
+                         "quantities (a list in perturbs) and correlate only the remainder")
+    return tuple(notes)
 
 
 def _endpoint_se(mc: MonteCarloStage, outputs: Sequence[str]) -> dict[str, tuple[float, float]]:
@@ -585,4 +618,5 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         lpu=gum.lpu, validation=gum.validation, components=gum.components,
         sobol_result=sens.sobol_result, shapley=sens.shapley, tightening=dec.tightening,
         requirement_checks=dec.requirement_checks, input_limits=dec.input_limits,
-        allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials)
+        allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials,
+        correlated_scaling=dec.correlated_scaling)

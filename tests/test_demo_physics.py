@@ -20,29 +20,34 @@ from .conftest import ROOT
 CP = pytest.importorskip("CoolProp.CoolProp")
 
 
-def test_cryogenic_set_point_matches_reynolds_with_coolprop_nitrogen():
-    study = simunc.load_study(ROOT / "studies" / "halden_cryogenic.toml")
-    sp = simunc.solve(study)
-    assert sp.feasible and sp.solve_for == ("stagnation_temperature", "mach")
-    p0, t0, m = (sp.nominal[k] for k in ("stagnation_pressure", "stagnation_temperature", "mach"))
-    # Exact isentropic expansion by CoolProp: s = s0, h = h0 - V^2/2, V = M a (fixed point on p).
+def coolprop_nitrogen_reynolds(p0: float, t0: float, mach: float, length: float) -> float:
+    """Re of the test section by CoolProp: isentropic expansion s = s0, h = h0 - (M a)^2 / 2
+    (a fixed point on p)."""
     h0 = CP.PropsSI("Hmass", "P", p0, "T", t0, "Nitrogen")
     s0 = CP.PropsSI("Smass", "P", p0, "T", t0, "Nitrogen")
-    p = p0 * (1 + 0.2 * m * m) ** -3.5
+    p = p0 * (1 + 0.2 * mach * mach) ** -3.5
     for _ in range(60):
         t = CP.PropsSI("T", "P", p, "Smass", s0, "Nitrogen")
         a = CP.PropsSI("A", "P", p, "T", t, "Nitrogen")
         h = CP.PropsSI("Hmass", "P", p, "T", t, "Nitrogen")
         rho = CP.PropsSI("Dmass", "P", p, "T", t, "Nitrogen")
-        p -= (h + 0.5 * (m * a) ** 2 - h0) * rho   # dh = dp / rho along the isentrope
+        p -= (h + 0.5 * (mach * a) ** 2 - h0) * rho   # dh = dp / rho along the isentrope
     t = CP.PropsSI("T", "P", p, "Smass", s0, "Nitrogen")
     rho = CP.PropsSI("Dmass", "P", p, "T", t, "Nitrogen")
-    u = m * CP.PropsSI("A", "P", p, "T", t, "Nitrogen")
-    mu = CP.PropsSI("V", "P", p, "T", t, "Nitrogen")
-    re_model = rho * u * sp.nominal["model_length"] / mu
+    u = mach * CP.PropsSI("A", "P", p, "T", t, "Nitrogen")
+    return rho * u * length / CP.PropsSI("V", "P", p, "T", t, "Nitrogen")
+
+
+def test_cryogenic_set_point_matches_reynolds_with_coolprop_nitrogen():
+    study = simunc.load_study(ROOT / "studies" / "halden_cryogenic.toml")
+    sp = simunc.solve(study)
+    assert sp.feasible and sp.solve_for == ("stagnation_temperature", "mach")
+    p0, t0, m = (sp.nominal[k] for k in ("stagnation_pressure", "stagnation_temperature", "mach"))
+    re_model = coolprop_nitrogen_reynolds(p0, t0, m, sp.nominal["model_length"])
     assert re_model == pytest.approx(sp.outputs["reynolds_full_scale"], rel=1e-6)
     # The static state keeps clear of saturation (N2 saturation temperature at p, CoolProp).
-    assert t > CP.PropsSI("T", "P", p, "Q", 1, "Nitrogen") + 1.0
+    p = sp.outputs["static_pressure"]
+    assert sp.outputs["static_temperature"] > CP.PropsSI("T", "P", p, "Q", 1, "Nitrogen") + 1.0
 
 
 def test_towing_tank_froude_speed_and_reynolds_shortfall():

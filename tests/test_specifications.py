@@ -515,7 +515,7 @@ BAD = [
      "uncertain[0].standard_uncertainty", "different dimensions"),
     ("stated with a list", dict(perturbs=["viscosity_model", "density_model"],
                                 standard_uncertainty="stated"),
-     "uncertain[0].standard_uncertainty", "alone"),
+     "uncertain[0].standard_uncertainty", "one property"),
 ]
 
 

@@ -27,6 +27,16 @@ SAFETY = [
 ]
 
 
+def _property_scope(targets) -> str:
+    """Where a property-model input acts: the facility state, the full-scale state or both."""
+    fac = any(t in ("viscosity_model", "density_model") for t in targets)
+    full = any(t in ("full_scale_viscosity_model", "full_scale_density_model") for t in targets)
+    if fac and full:
+        return ("the facility and the full-scale states, one shared draw (a common-mode error "
+                "that cancels in the ratio as far as the two states share the model)")
+    return "the facility state only" if fac else ("the full-scale state only" if full else "")
+
+
 def _state_line(st, o) -> str:
     scale = st.full_scale.reference_length / o["model_length"]
     model = f"model reference length {o['model_length'] * 1e3:.2f} mm (scale 1:{scale:.4g})"
@@ -191,6 +201,16 @@ def build(result) -> list[Block]:
                    f"relative standard uncertainty: {stated}. Include it with an input "
                    "perturbs = \"viscosity_model\" (or \"density_model\") and "
                    "standard_uncertainty = \"stated\"."))
+    scopes = [f"{i.name}: {_property_scope(i.targets)}" for i in result.inputs
+              if _property_scope(i.targets)]
+    if scopes:
+        b.append(Block("paragraph", "Property-model inputs act on: " + "; ".join(scopes) + "."))
+    corrected = [f"{i.name} ({i.spec.text.split(', correction ')[-1]})" for i in result.inputs
+                 if i.spec.correction]
+    if corrected:
+        b.append(Block("paragraph", "Known corrections applied (JCGM 100 3.2.4), in the set point "
+                       "and in every trial, with the input's uncertainty about them: "
+                       + "; ".join(corrected) + "."))
 
     p = 100 * result.coverage_probability
     b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))
@@ -261,6 +281,7 @@ def build(result) -> list[Block]:
         b += decisions.tightening_blocks(result)
         b += decisions.requirement_blocks(result)
         b += decisions.sweep_blocks(result)
+        b += decisions.correlated_scaling_blocks(result)
 
     b.append(Block("heading", "Safety"))
     b.append(Block("bullets", [SAFETY[0], SAFETY[1].format(q=f"{o['dynamic_pressure'] / 1e3:.1f}"),

@@ -186,6 +186,14 @@ def requirement_blocks(result) -> list[Block]:
     return b
 
 
+def correlated_scaling_blocks(result) -> list[Block]:
+    """What the decision analyses assumed when they scaled a correlated input."""
+    if not result.correlated_scaling:
+        return []
+    return [Block("heading", "Scaling correlated inputs", 3),
+            Block("bullets", [f"{n}." for n in result.correlated_scaling])]
+
+
 def sweep_blocks(result) -> list[Block]:
     if not result.sweeps:
         return []

@@ -256,7 +256,9 @@ def similitude_problem(model: SimilitudeModel, setpoint: SetPoint,
             v = x[inp.name]
             for target, factor in inp.effects:  # a shared error acts on each of its targets
                 d = v if factor == 1.0 else factor * v
-                deviations[target] = deviations[target] + d if target in deviations else d
+                # on top of the known corrections the nominal state already carries
+                deviations[target] = (deviations[target] if target in deviations
+                                      else nominal.get(target) or 0.0) + d
         return model({**nominal, **deviations})
 
     return Problem([i.name for i in inputs], [i.distribution for i in inputs], func)

@@ -79,6 +79,17 @@ class SimilitudeModel:
                 params[name] = np.asarray(x[name], dtype=float) + dev
         return params
 
+    @staticmethod
+    def immersion_depth(x) -> np.ndarray | float:
+        """Depth of the model's reference point below the free surface [m]: ``model_depth``
+        plus ``geometric_depth`` (the full-scale depth) times ``L_model / L_full``."""
+        geometric = x.get("geometric_depth") or 0.0
+        depth = x.get("model_depth") or 0.0
+        if not geometric:
+            return depth
+        return depth + geometric * (np.asarray(x["model_length"], dtype=float)
+                                    / np.asarray(x["full_scale_length"], dtype=float))
+
     def _facility(self, x, d) -> dict:
         f = self.fluid
         params = self._fluid_params(f, x, d)
@@ -102,21 +113,40 @@ class SimilitudeModel:
             a = f.speed_of_sound(p, t, **params)
             speed = mach * a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
+            # What the data system records: the indicated p0 and T0 and the Mach number set from
+            # the indications (its control wander seen), reduced with the nominal fluid model.
+            nominal = {k: np.asarray(x[k], dtype=float) for k in params}
+            mach_rec = mach_set + d("mach_control")
+            p_rec, t_rec = f.static_state(p0_ind, t0_ind, mach_rec, **nominal)
+            speed_rec = mach_rec * f.speed_of_sound(p_rec, t_rec, **nominal)
         else:
             speed = (np.asarray(x["speed"], dtype=float) - d("speed_indication")
                      + d("speed_control"))
-            p = (np.asarray(x["static_pressure"], dtype=float) - d("static_pressure_indication")
-                 + d("static_pressure_control"))
+            depth = self.immersion_depth(x)
+            p_surface = (np.asarray(x["static_pressure"], dtype=float)
+                         - d("static_pressure_indication") + d("static_pressure_control"))
             t = (np.asarray(x["temperature"], dtype=float) - d("temperature_indication")
                  + d("temperature_control"))
+            p = flow.hydrostatic_pressure(p_surface, f.density(p_surface, t, **params), depth,
+                                          STANDARD_GRAVITY)
             a = f.speed_of_sound(p, t, **params)
             mach = speed / a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
             p0 = p + flow.kinetic_pressure(rho, speed)
             t0 = t
+            nominal = {k: np.asarray(x[k], dtype=float) for k in params}
+            speed_rec = np.asarray(x["speed"], dtype=float) + d("speed_control")
+            p_rec = np.asarray(x["static_pressure"], dtype=float) + d("static_pressure_control")
+            t_rec = np.asarray(x["temperature"], dtype=float) + d("temperature_control")
+            p_rec = flow.hydrostatic_pressure(p_rec, f.density(p_rec, t_rec, **nominal), depth,
+                                              STANDARD_GRAVITY)
+            mach_rec = speed_rec / f.speed_of_sound(p_rec, t_rec, **nominal)
         mu = f.viscosity(p, t, **params) * (1.0 + d("viscosity_model"))
+        recorded = {"p": p_rec, "t": t_rec, "speed": speed_rec, "mach": mach_rec,
+                    "rho": f.density(p_rec, t_rec, **nominal),
+                    "mu": f.viscosity(p_rec, t_rec, **nominal)}
         return {"fluid": f, "params": params, "p": p, "t": t, "p0": p0, "t0": t0, "rho": rho,
-                "a": a, "mu": mu, "speed": speed, "mach": mach}
+                "a": a, "mu": mu, "speed": speed, "mach": mach, "recorded": recorded}
 
     def _full_scale(self, x, d, facility_params) -> dict:
         fg = self.full_scale_fluid
@@ -131,8 +161,10 @@ class SimilitudeModel:
         else:
             speed = given + d("full_scale_speed") + d("full_scale_mach") * a
             mach = groups.mach(speed, a)
-        return {"fluid": fg, "params": params, "p": p, "t": t, "rho": fg.density(p, t, **params),
-                "a": a, "mu": fg.viscosity(p, t, **params), "speed": speed, "mach": mach}
+        rho = fg.density(p, t, **params) * (1.0 + d("full_scale_density_model"))
+        mu = fg.viscosity(p, t, **params) * (1.0 + d("full_scale_viscosity_model"))
+        return {"fluid": fg, "params": params, "p": p, "t": t, "rho": rho,
+                "a": a, "mu": mu, "speed": speed, "mach": mach}
 
     @staticmethod
     def _groups(s: dict, length, frequency, names: tuple[str, ...]) -> dict:
@@ -198,8 +230,17 @@ class SimilitudeModel:
             fs_freq = (np.asarray(x["full_scale_frequency_nominal"], dtype=float)
                        + d("full_scale_frequency"))
 
+        rec = fac["recorded"]
+        q = flow.kinetic_pressure(fac["rho"], fac["speed"])
+        q_rec = flow.kinetic_pressure(rec["rho"], rec["speed"])
         out = {
-            "dynamic_pressure": flow.kinetic_pressure(fac["rho"], fac["speed"]),
+            "dynamic_pressure": q,
+            "mach_indicated": rec["mach"],
+            "reynolds_indicated": groups.reynolds(rec["rho"], rec["speed"],
+                                                  np.asarray(x["model_length"], dtype=float),
+                                                  rec["mu"]),
+            "dynamic_pressure_indicated": q_rec,
+            "dynamic_pressure_error": q_rec / q - 1.0,
             "speed": fac["speed"], "density": fac["rho"], "viscosity": fac["mu"],
             "static_pressure": fac["p"], "static_temperature": fac["t"],
             "stagnation_pressure": fac["p0"], "stagnation_temperature": fac["t0"],

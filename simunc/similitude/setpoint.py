@@ -1,23 +1,26 @@
 """Set-point solver: the facility state that reproduces the full-scale groups.
 
 The unknowns (``match.solve_for`` plus the implicit ones: the Mach number when
-it is matched, the model frequency when the Strouhal number is) are found by
-bounded least squares (:func:`scipy.optimize.least_squares`, trust-region
-reflective) on the same :class:`~simunc.similitude.model.SimilitudeModel` the Monte Carlo
-uses.  Each matched group contributes the residual ``ln(G_model / G_full) /
-tolerance`` (``(Ma_model - Ma_full) / tolerance`` for the Mach number), so a
-residual of 1 is one band.  Groups are matched in priority order: residuals
-of priority 1 are weighted 10^6 above those of priority 2, and so on.  The
-bounds are the facility's limits (pressure, temperature and Mach ranges,
-largest model from its size limit and blockage), the largest dynamic pressure
-is an inequality held by a penalty and a final projection.
+it is matched, the model frequency when the Strouhal number is) are found on the
+same :class:`~simunc.similitude.model.SimilitudeModel` the Monte Carlo uses.
+Each matched group has the residual ``ln(G_model / G_full) / tolerance``
+(``(Ma_model - Ma_full) / tolerance`` for the Mach number), so a residual of 1
+is one band.  The bounds are the facility's limits (pressure, temperature and
+Mach ranges, largest model from its size limit and blockage); the largest
+dynamic pressure is a constraint.
 
-* As many unknowns as solved groups and every residual zero: an exact match
-  (a root).
-* Fewer unknowns than groups: weighted least squares, with the mismatch of
-  every group reported.
-* A residual that cannot reach zero inside the limits: the nearest achievable
-  point, and the limits that bind.
+1. **Exact match** (:func:`_root`): bounded least squares
+   (:func:`scipy.optimize.least_squares`, trust-region reflective) on the
+   residuals without priority weights.  A root does not depend on how the bands
+   are weighed, so it is found whatever the tolerances and priorities.
+2. **Nearest achievable point in priority order** (:func:`_priority_order`),
+   when no root exists inside the limits: for each priority level in turn,
+   SLSQP minimises that level's squared residuals with the levels before it held
+   at what they reached (equality constraints) and q under its limit.  The limits
+   that bind and the mismatch of every group are reported.
+
+The result is ``"exact"`` only when every solved group is matched and every
+limit holds (feasible), ``"least squares"`` otherwise.
 """
 
 from __future__ import annotations
@@ -31,11 +34,10 @@ import numpy as np
 from scipy.optimize import least_squares
 
 from simunc.constants import STANDARD_PRESSURE
+from simunc.physics.fluids import AIR, AIR_REAL, CoolPropGas
 from simunc.similitude.model import SimilitudeModel
 from simunc.study.schema import Band, Study
 
-#: Weight between successive priority levels.
-PRIORITY_WEIGHT = 1.0e6
 #: A residual below this (in tolerance bands) counts as matched.
 MATCHED = 1.0e-6
 
@@ -86,7 +88,8 @@ class SetPoint:
     messages : list of str
         Plain statements for the report (what binds, the shortfall).
     method : str
-        ``"exact"`` or ``"least squares"``.
+        ``"exact"`` (every solved group matched, every limit held) or ``"least squares"``
+        (the nearest achievable point in priority order).
     mismatch : dict
         Per solved group, the residual in tolerance bands.
     binding : list of str
@@ -113,6 +116,8 @@ class SetPoint:
     fluid: str = ""
     alternatives: list = field(default_factory=list)
     outside_model: str = ""  # why the nominal facility state is outside the fluid model, if it is
+    #: States outside the region a fluid model's stated uncertainty covers (a caution, not a refusal).
+    coverage: tuple[str, ...] = ()
 
     @property
     def reynolds_shortfall(self) -> float:
@@ -191,13 +196,33 @@ def nominal_state(study: Study, fluid=None) -> dict:
     else:
         x.update(speed=fac.speed, temperature=fac.temperature,
                  static_pressure=fac.static_pressure if fac.static_pressure is not None
-                 else STANDARD_PRESSURE)
+                 else STANDARD_PRESSURE, **immersion(study))
     if fs.frequency is not None:
         x["full_scale_frequency_nominal"] = fs.frequency
         x["frequency"] = study.model_frequency
     for name in getattr(fluid, "parameters", ()):
         x[name] = getattr(fluid, name)
+    for spec in study.inputs:  # known corrections (JCGM 100 3.2.4): the mean of a deviation
+        if spec.correction:
+            for target in spec.targets:
+                x[target] = (x.get(target) or 0.0) + spec.correction
     return x
+
+
+def immersion(study: Study) -> dict[str, float]:
+    """Immersion of the model's reference point in a liquid facility, as model inputs.
+
+    ``model_depth``: ``facility.depth`` as written; ``geometric_depth``: the full-scale depth,
+    scaled in the model by ``L_model / L_full`` -- the default for a free-surface facility (no
+    static pressure set, given a range or solved) when the full scale is at a depth and
+    ``facility.depth`` is not written: a geometrically similar model floats or runs at the scaled
+    depth.
+    """
+    fac, fs = study.facility, study.full_scale
+    free_surface = (fac.static_pressure is None and fac.static_pressure_range is None
+                    and "static_pressure" not in study.unknowns)
+    geometric = fs.depth if (fac.depth is None and free_surface and fs.depth) else 0.0
+    return {"model_depth": fac.depth or 0.0, "geometric_depth": geometric or 0.0}
 
 
 def band_residual(b: Band, out: Mapping[str, np.ndarray]) -> float:
@@ -205,49 +230,240 @@ def band_residual(b: Band, out: Mapping[str, np.ndarray]) -> float:
     return b.residual(float(np.asarray(out[b.output])))
 
 
-def _residuals(model: SimilitudeModel, bands: list[Band], state: dict, q_max: float | None):
-    out = model(state)
-    levels = sorted({b.priority for b in bands})
-    r = [PRIORITY_WEIGHT ** (len(levels) - 1 - levels.index(b.priority)) * band_residual(b, out)
-         for b in bands]
-    if q_max is not None:
-        q = float(np.asarray(out["dynamic_pressure"]))
-        r.append(PRIORITY_WEIGHT ** len(levels) * 1e3 * max(0.0, math.log(q / q_max)))
-    residuals = np.array(r)
-    return np.where(np.isfinite(residuals), residuals, 1e9), out
+class _Problem:
+    """The solve of ``bands`` for ``keys`` inside ``box``, in the solver's variables ``z``.
+
+    ``z`` is the logarithm of each unknown (the Mach number and a liquid's
+    temperature as they are), so relative changes of pressures, lengths and
+    speeds weigh alike.  A point and its forward-difference neighbours are
+    evaluated in one vectorized call of the model.
+    """
+
+    STEP = 1.0e-7  # forward-difference step in z
+
+    def __init__(self, model: SimilitudeModel, base: dict, keys: list[str],
+                 box: dict[str, tuple[float, float]], bands: list[Band], q_max: float | None):
+        self.model, self.base, self.keys, self.bands, self.q_max = model, base, keys, bands, q_max
+        self.logs = np.array([k not in ("mach", "temperature") for k in keys], dtype=bool)
+        self.lo = np.array([math.log(box[k][0]) if g else box[k][0]
+                            for k, g in zip(keys, self.logs)])
+        self.hi = np.array([math.log(box[k][1]) if g else box[k][1]
+                            for k, g in zip(keys, self.logs)])
+        self.box = box
+        self.levels = sorted({b.priority for b in bands})
+        self.priority = np.array([b.priority for b in bands])
+        self._last: tuple[bytes, np.ndarray, np.ndarray] | None = None
+
+    def state(self, z) -> dict:
+        """Model inputs at one point ``z`` (floats) or at the rows of ``z`` (arrays)."""
+        z = np.clip(np.asarray(z, dtype=float), self.lo, self.hi)
+        s = dict(self.base)
+        for i, k in enumerate(self.keys):
+            v = np.exp(z[..., i]) if self.logs[i] else z[..., i]
+            for b in self.box[k]:  # undo the round trip through the logarithm on a bound
+                v = np.where(np.abs(v - b) <= 1e-12 * abs(b), b, v)
+            s[k] = float(v) if np.ndim(v) == 0 else v
+        return s
+
+    def _rows(self, z) -> tuple[np.ndarray, np.ndarray]:
+        """Residuals (tolerance bands) and ``ln(q/q_max)`` at ``z`` and its neighbours."""
+        z = np.asarray(z, dtype=float)
+        key = z.tobytes()
+        if self._last is None or self._last[0] != key:
+            pts = np.vstack([z, z + self.STEP * np.eye(len(z)) * np.where(
+                z + self.STEP <= self.hi, 1.0, -1.0)])
+            out = self.model(self.state(pts))
+            n = len(pts)
+            res = np.empty((n, len(self.bands)))
+            for j, b in enumerate(self.bands):
+                y = np.broadcast_to(np.asarray(out[b.output], dtype=float), (n,))
+                aim = b.centre if b.target is None else b.target
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    r = (y - aim) if b.is_difference else np.where(y > 0.0, np.log(y / aim), np.inf)
+                res[:, j] = r / b.tolerance
+            res = np.where(np.isfinite(res), res, 1e9)
+            if self.q_max is None:
+                qx = np.zeros(n)
+            else:
+                q = np.broadcast_to(np.asarray(out["dynamic_pressure"], dtype=float), (n,))
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    qx = np.where(q > 0.0, np.log(q / self.q_max), 1e9)
+                qx = np.where(np.isfinite(qx), qx, 1e9)
+            self._last = (key, res, qx)
+        return self._last[1], self._last[2]
+
+    def _steps(self, z) -> np.ndarray:
+        z = np.asarray(z, dtype=float)
+        return self.STEP * np.where(z + self.STEP <= self.hi, 1.0, -1.0)
+
+    def residuals(self, z) -> np.ndarray:
+        return self._rows(z)[0][0]
+
+    def jacobian(self, z) -> np.ndarray:
+        res = self._rows(z)[0]
+        return (res[1:] - res[0]).T / self._steps(z)
+
+    def q_excess(self, z) -> float:
+        """``ln(q / q_max)``: positive above the dynamic-pressure limit (0 without one)."""
+        return float(self._rows(z)[1][0])
+
+    def q_gradient(self, z) -> np.ndarray:
+        qx = self._rows(z)[1]
+        return (qx[1:] - qx[0]) / self._steps(z)
+
+    def root_residuals(self, z) -> np.ndarray:
+        return np.append(self.residuals(z), 1e3 * max(0.0, self.q_excess(z)))
+
+    def root_jacobian(self, z) -> np.ndarray:
+        qrow = 1e3 * self.q_gradient(z) * (self.q_excess(z) > 0.0)
+        return np.vstack([self.jacobian(z), qrow])
+
+    def level_costs(self, z) -> tuple[float, ...]:
+        """Sum of squared residuals per priority level, the dynamic-pressure excess first."""
+        r = self.residuals(z)
+        return (max(0.0, self.q_excess(z)),) + tuple(float(np.sum(r[self.priority == lv] ** 2))
+                                                     for lv in self.levels)
+
+    def matched(self, z) -> bool:
+        return bool(np.all(np.abs(self.residuals(z)) < MATCHED)) and self.q_excess(z) <= 1e-12
+
+    def starts(self) -> list[np.ndarray]:
+        return [self.lo + frac * (self.hi - self.lo) for frac in (0.5, 0.2, 0.8)]
+
+
+def _better(p: _Problem, a: np.ndarray, b: np.ndarray | None) -> bool:
+    """Whether ``a`` beats ``b`` in priority order (a level decides when it differs by more
+    than 1e-12 band squared, relative)."""
+    if b is None:
+        return True
+    for ca, cb in zip(p.level_costs(a), p.level_costs(b)):
+        if abs(ca - cb) > 1e-12 * (1.0 + min(ca, cb)):
+            return ca < cb
+    return False
+
+
+def _root(p: _Problem) -> tuple[np.ndarray | None, np.ndarray | None]:
+    """An exact match (every band's residual zero, q inside its limit), if one is found.
+
+    The residuals in tolerance bands carry no priority weight: a root is a root
+    whatever the tolerances and priorities, so the scaling cannot hide it.
+    Returns the root (or ``None``) and the best point seen.
+    """
+    best = None
+    for z0 in p.starts():
+        sol = least_squares(p.root_residuals, z0, jac=p.root_jacobian, bounds=(p.lo, p.hi),
+                            method="trf", x_scale="jac", xtol=1e-15, ftol=1e-15, gtol=1e-15,
+                            max_nfev=100 * (len(p.keys) + 1))
+        z = np.clip(sol.x, p.lo, p.hi)
+        if p.matched(z):
+            return z, z
+        if _better(p, z, best):
+            best = z
+    return None, best
+
+
+def _priority_order(p: _Problem, z_start: np.ndarray) -> np.ndarray:
+    """The nearest achievable point, matched level by level in priority order.
+
+    Level ``k`` minimises the squared residuals of its bands subject to the levels
+    before it keeping what they achieved (equality constraints) and q inside its
+    limit (SLSQP).  Unlike a weighted sum, the lower levels' gradients are never
+    drowned by the finite-difference noise of the higher levels.
+    """
+    from scipy.optimize import minimize
+
+    z_best = z_start
+    done: list[tuple[int, float]] = []
+    bounds = list(zip(p.lo, p.hi))
+    for level in p.levels:
+        mine = np.flatnonzero(p.priority == level)
+        cons: list[dict[str, Any]] = [
+            {"type": "eq", "fun": (lambda z, j=j, v=v: p.residuals(z)[j] - v),
+             "jac": (lambda z, j=j: p.jacobian(z)[j])} for j, v in done]
+        if p.q_max is not None:
+            cons.append({"type": "ineq", "fun": lambda z: -p.q_excess(z),
+                         "jac": lambda z: -p.q_gradient(z)})
+
+        def cost(z, mine=mine):
+            return float(np.sum(p.residuals(z)[mine] ** 2))
+
+        def grad(z, mine=mine):
+            return 2.0 * p.residuals(z)[mine] @ p.jacobian(z)[mine]
+
+        level_best = z_best
+        for z0 in [z_best] + p.starts():
+            sol = minimize(cost, z0, jac=grad, method="SLSQP", bounds=bounds, constraints=cons,
+                           options={"ftol": 1e-14, "maxiter": 200})
+            z = np.clip(sol.x, p.lo, p.hi)
+            if _better(p, z, level_best):
+                level_best = z
+            if sol.success and cost(level_best) < 1e-20:
+                break
+        z_best = level_best
+        done += [(int(j), float(p.residuals(z_best)[j])) for j in mine]
+    return _polish(p, _snap(p, z_best))
+
+
+def _snap(p: _Problem, z: np.ndarray) -> np.ndarray:
+    """Put unknowns that SLSQP left within 1e-7 of a bound on it, unless that is worse."""
+    z = np.array(z, dtype=float)
+    for i in range(len(z)):
+        for b in (p.lo[i], p.hi[i]):
+            if 0.0 < abs(z[i] - b) < 1e-7:
+                trial = z.copy()
+                trial[i] = b
+                if not _better(p, z, trial):
+                    z = trial
+    return z
+
+
+def _polish(p: _Problem, z: np.ndarray) -> np.ndarray:
+    """Drive the matched bands' residuals (below :data:`MATCHED`) to round-off.
+
+    SLSQP holds its equality constraints to about 1e-9 of a band; a Gauss-Newton
+    correction on the matched bands alone, from that point, removes the rest
+    while the others move by the same order.
+    """
+    r = p.residuals(z)
+    on = np.flatnonzero(np.abs(r) < MATCHED)
+    if not len(on) or np.max(np.abs(r[on])) < 1e-13:
+        return z
+    free = np.flatnonzero((z > p.lo) & (z < p.hi))  # unknowns on a bound stay there
+    if not len(free):
+        return z
+
+    def full(x):
+        out = np.array(z, dtype=float)
+        out[free] = x
+        return out
+
+    sol = least_squares(lambda x: p.residuals(full(x))[on],
+                        z[free], jac=lambda x: p.jacobian(full(x))[np.ix_(on, free)],
+                        bounds=(p.lo[free], p.hi[free]), method="trf", xtol=1e-15, ftol=1e-15,
+                        gtol=1e-15, max_nfev=20)
+    zp = full(np.clip(sol.x, p.lo[free], p.hi[free]))
+    rp = p.residuals(zp)
+    keep = (np.max(np.abs(rp[on])) < np.max(np.abs(r[on])) and p.q_excess(zp) <= max(
+        0.0, p.q_excess(z)) + 1e-12 and np.all(np.abs(rp - r) < 1e-6))
+    return zp if keep else z
 
 
 def _solve_one(model: SimilitudeModel, base: dict, keys: list[str],
                box: dict[str, tuple[float, float]], bands: list[Band], q_max: float | None):
-    """Least squares over ``keys`` inside ``box``; returns the state and outputs."""
-    logs = [k not in ("mach", "temperature") for k in keys]
-    lo = np.array([math.log(box[k][0]) if g else box[k][0] for k, g in zip(keys, logs)])
-    hi = np.array([math.log(box[k][1]) if g else box[k][1] for k, g in zip(keys, logs)])
+    """Solve ``bands`` for ``keys`` inside ``box``; returns the state and outputs.
 
-    def state_of(z):
-        s = dict(base)
-        for k, g, v in zip(keys, logs, z):
-            s[k] = math.exp(v) if g else float(v)
-        return s
-
-    def fun(z):
-        return _residuals(model, bands, state_of(z), q_max)[0]
-
-    best = None
-    for frac in (0.5, 0.2, 0.8):
-        z0 = lo + frac * (hi - lo)
-        sol = least_squares(fun, z0, bounds=(lo, hi), method="trf", x_scale="jac",
-                            xtol=1e-15, ftol=1e-15, gtol=1e-15, max_nfev=2000)
-        if best is None or sol.cost < best.cost:
-            best = sol
-        if best.cost < 1e-20:
-            break
-    assert best is not None  # the loop above runs at least once
-    state = state_of(best.x)
-    for k in keys:  # undo the round trip through the logarithm on an active bound
-        for b in box[k]:
-            if abs(state[k] - b) <= 1e-12 * abs(b):
-                state[k] = b
+    First an exact match (:func:`_root`); when none exists inside the limits, the
+    nearest achievable point in priority order (:func:`_priority_order`).
+    """
+    p = _Problem(model, base, keys, box, bands, q_max)
+    if keys:
+        z, near = _root(p)
+        if z is None:
+            assert near is not None  # _root tries at least one start
+            z = _priority_order(p, near)
+        state = p.state(z)
+    else:
+        state = dict(base)
     if q_max is not None:  # project onto q <= q_max (q grows with the pressure level)
         pkey = "stagnation_pressure" if model.kind == "gas" else None
         for _ in range(5):
@@ -404,15 +620,46 @@ def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
     if reason:
         msgs.append(f"The facility state is outside the {model.fluid.name} model: {reason}.")
     feasible = matched and all(lim.ok for lim in limits) and not reason
+    coverage = []
+    for where, fluid, pt in (
+            ("test section", model.fluid, (out["static_pressure"], out["static_temperature"])),
+            ("settling chamber", model.fluid if model.kind == "gas" else None,
+             (out["stagnation_pressure"], out["stagnation_temperature"])),
+            ("full scale", model.full_scale_fluid,
+             (state["full_scale_static_pressure"], out["full_scale_temperature"]))):
+        note = getattr(fluid, "coverage_note", None)
+        text = note(*pt) if note is not None else None
+        if text:
+            coverage.append(f"Property model at the {where}: {text}.")
     for b in study.bands:
         if not b.solve:
             y = out[b.output]
             msgs.append(f"{b.group} is checked, not imposed: {b.output} = "
                         + (f"{y:+.4f}." if b.is_difference else f"{y:.4f}."))
+    if model.kind == "liquid":
+        depth = float(np.asarray(model.immersion_depth(state)))
+        if depth > 0.0:
+            how = (" (the full-scale depth scaled with the model)" if state.get("geometric_depth")
+                   else "")
+            msgs.append(f"The model's reference point is {depth:.4g} m below the free surface"
+                        f"{how}: static pressure at the model {out['static_pressure']:.6g} Pa.")
+    if isinstance(model.fluid, CoolPropGas) and model.full_scale_fluid is AIR:
+        p_fs, t_fs = state["full_scale_static_pressure"], out["full_scale_temperature"]
+        # Re = rho U L / mu at the same state (and the same Mach number, U = M a, when the full
+        # scale is given by its Mach number): the ratio of the two models
+        ratio = float(AIR_REAL.density(p_fs, t_fs) / AIR.density(p_fs, t_fs)
+                      * AIR.viscosity(p_fs, t_fs) / AIR_REAL.viscosity(p_fs, t_fs)
+                      * (AIR_REAL.speed_of_sound(p_fs, t_fs) / AIR.speed_of_sound(p_fs, t_fs)
+                         if model.full_scale_given == "mach" else 1.0))
+        msgs.append(f"The facility uses the real-gas {model.fluid.name} model; the full scale uses "
+                    "dry_air (perfect gas, Sutherland viscosity). With the reference air model at "
+                    f"full scale as well (full_scale.fluid = \"air_real\") the full-scale Reynolds "
+                    f"number would differ by {100 * (ratio - 1):+.2f} %.")
     if study.band("mach") is None and model.kind == "gas":
         msgs.append(f"The Mach number is not matched: Ma_model - Ma_full = "
                     f"{out['mach_model'] - out['mach_full_scale']:+.4f}.")
-    method = "exact" if len(keys) == len(bands) else "least squares"
+    method = "exact" if feasible else "least squares"
     first = keys[0] if keys else ""
     return SetPoint(state, out, tuple(keys), required.get(first, math.nan), feasible, limits, msgs,
-                    method, mismatch, binding, required, model.fluid.name, outside_model=reason or "")
+                    method, mismatch, binding, required, model.fluid.name, outside_model=reason or "",
+                    coverage=tuple(coverage))

@@ -112,8 +112,15 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     else:
         notes.append("No set point inside the facility limits matches the Reynolds number at any "
                      f"{name} number: no Reynolds-matched run (C).")
-    ratio = re_fs / re_a
-    notes.append(f"Reynolds numbers covered at {name} matched: {re_low:.4g} to {re_a:.4g} against "
+    # The Reynolds numbers covered are those of the runs made with the primary group matched.
+    held = [r.outputs["reynolds_model"] for r in runs if r.label != "C" and all(
+        abs(band_residual(b, r.outputs)) < MATCHED for b in primary)]
+    if len(held) < len([r for r in runs if r.label != "C"]):
+        notes.append(f"Some sweep runs could not hold the {name} number matched; they are not "
+                     "counted in the covered range.")
+    re_lo, re_hi = (min(held), max(held)) if held else (math.nan, math.nan)
+    ratio = re_fs / re_hi if held else math.nan
+    notes.append(f"Reynolds numbers covered at {name} matched: {re_lo:.4g} to {re_hi:.4g} against "
                  f"{re_fs:.4g} at full scale; extrapolation ratio Re_full / Re_A = {ratio:.3g} "
                  f"({math.log10(ratio):.2f} decades).")
-    return TestPlan(primary[0].group, runs, (re_low, re_a), re_fs, ratio, notes)
+    return TestPlan(primary[0].group, runs, (re_lo, re_hi), re_fs, ratio, notes)

@@ -88,6 +88,11 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
            "relative error of the viscosity model at the facility state (mu = mu_model (1 + e))"),
     Target("density_model", "dimensionless", None,
            "relative error of the density model at the facility state (rho = rho_model (1 + e))"),
+    Target("full_scale_viscosity_model", "dimensionless", None,
+           "relative error of the viscosity model at the full-scale state (mu = mu_model (1 + e)); "
+           "with viscosity_model in one perturbs list, one error common to both states"),
+    Target("full_scale_density_model", "dimensionless", None,
+           "relative error of the density model at the full-scale state (rho = rho_model (1 + e))"),
     Target("sutherland_constant", "temperature_difference", "sutherland",
            "Sutherland-constant deviation of the facility gas (and of full scale when it is the "
            "same gas)", _GAS, "sutherland"),
@@ -103,7 +108,8 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
 )}
 
 #: Targets that are the full-scale condition itself (not a test error): reported apart.
-CONDITION_TARGETS = frozenset(t.name for t in TARGETS.values() if t.name.startswith("full_scale_"))
+CONDITION_TARGETS = frozenset(t.name for t in TARGETS.values() if t.name.startswith("full_scale_")
+                              and not t.name.endswith("_model"))
 
 #: Similarity groups the model computes: name -> (label, "ratio" or "difference").
 GROUPS: dict[str, tuple[str, str]] = {
@@ -149,6 +155,12 @@ def output_key(group: str) -> str:
 #: Output keys with their SI units and a label for reports (groups add their own three).
 OUTPUTS: dict[str, tuple[str, str]] = {
     "dynamic_pressure": ("Pa", "facility dynamic pressure q"),
+    "mach_indicated": ("1", "Mach number the data system records (from the indications)"),
+    "reynolds_indicated": ("1", "Reynolds number the data system records (indicated state, "
+                                "nominal model length and fluid model)"),
+    "dynamic_pressure_indicated": ("Pa", "dynamic pressure the data system records"),
+    "dynamic_pressure_error": ("1", "relative error of the recorded q: q_indicated / q - 1 (the "
+                                    "error data reduction inherits)"),
     "speed": ("m/s", "facility speed U"),
     "density": ("kg/m^3", "facility density rho"),
     "viscosity": ("Pa s", "facility viscosity mu"),

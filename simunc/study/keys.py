@@ -14,7 +14,7 @@ FACILITY_KEYS = ("name", "gas", "fluid", "stagnation_temperature", "stagnation_t
                   "stagnation_pressure", "stagnation_pressure_range", "mach", "mach_range",
                   "mach_from", "speed", "speed_range", "static_pressure", "static_pressure_range",
                   "temperature", "temperature_range", "max_model_reference_length",
-                  "test_section_area", "max_blockage", "max_dynamic_pressure", "humidity")
+                  "test_section_area", "max_blockage", "max_dynamic_pressure", "humidity", "depth")
 HUMIDITY_KEYS = ("dew_point", "relative_humidity", "at_pressure", "at_temperature")
 MODEL_KEYS = ("scale", "reference_length", "frequency")
 BAND_KEYS = ("tolerance", "priority", "solve")
@@ -23,7 +23,7 @@ SIZE_KEYS = ("standard_uncertainty", "expanded_uncertainty", "half_width", "accu
               "resolution", "readings", "type_a")
 INPUT_KEYS = ("name", "perturbs", "distribution") + SIZE_KEYS + (
     "coverage_factor", "coverage_probability", "degrees_of_freedom", "beta", "component", "note",
-    "controllable", "cost", "grades")
+    "controllable", "cost", "grades", "correction")
 ACCURACY_KEYS = ("reading", "full_scale", "range", "absolute")
 TYPE_A_KEYS = ("mean", "standard_deviation", "count")
 CORRELATION_KEYS = ("pairs",)
@@ -36,7 +36,7 @@ MATCH_KEYS = ("solve_for", "custom") + tuple(GROUPS)
 GAS_ONLY = ("stagnation_temperature", "stagnation_temperature_range", "stagnation_pressure",
              "stagnation_pressure_range", "mach", "mach_range", "mach_from")
 LIQUID_ONLY = ("speed", "speed_range", "static_pressure", "static_pressure_range", "temperature",
-                "temperature_range")
+                "temperature_range", "depth")
 
 REQUIREMENT_KEYS = ("output", "group", "expanded_uncertainty", "coverage_probability", "within",
                      "probability", "conformity", "note")

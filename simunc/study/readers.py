@@ -143,6 +143,16 @@ def _full_scale(t: Table) -> FullScale:
                      t.optional_quantity("frontal_area", "area"), depth)
 
 
+def _immersion(t: Table) -> float | None:
+    """``facility.depth``: immersion depth of the model's reference point (0 or more)."""
+    if not t.has("depth"):
+        return None
+    depth = t.quantity("depth", "length", positive=False)
+    if depth < 0.0:
+        raise StudyError(t.key("depth"), t.data["depth"], "a depth of 0 or more")
+    return depth
+
+
 def _facility(t: Table) -> Facility:
     key = t.exclusive(("fluid", "gas"), required=False) or "gas"
     names = t.names(key, (AIR.name,))
@@ -182,6 +192,7 @@ def _facility(t: Table) -> Facility:
             static_pressure_range=t.pair("static_pressure_range", "pressure"),
             temperature=t.optional_quantity("temperature", "temperature"),
             temperature_range=t.pair("temperature_range", "temperature"),
+            depth=_immersion(t),
         )
     p_range = t.pair("stagnation_pressure_range", "pressure")
     if p_range is None:
@@ -403,7 +414,7 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     inputs_raw = data.get("uncertain", [])
     if not isinstance(inputs_raw, list):
         raise StudyError("uncertain", inputs_raw, "an array of tables ([[uncertain]] entries)")
-    inputs = tuple(read_input(d, i, fac.kind, fac.gas) for i, d in enumerate(inputs_raw))
+    inputs = tuple(read_input(d, i, fac.kind, fac.gas, fs.fluid) for i, d in enumerate(inputs_raw))
     names = [i.name for i in inputs]
     for i, n in enumerate(names):
         if names.index(n) != i:

@@ -72,6 +72,7 @@ SAMPLING: tuple[Sampling, ...] = ("random", "lhs", "sobol")
 #: are ranked apart and left as written by the allocation unless marked ``controllable = true``.
 UNCONTROLLED_TARGETS = ("full_scale_temperature", "full_scale_speed", "full_scale_mach",
                         "full_scale_frequency", "viscosity_model", "density_model",
+                        "full_scale_viscosity_model", "full_scale_density_model",
                         "sutherland_constant")
 REQUIREMENT_KINDS: tuple[RequirementKind, ...] = ("expanded_uncertainty", "within", "conformity")
 
@@ -180,6 +181,7 @@ class Facility:
     static_pressure_range: tuple[float, float] | None = None
     temperature: float | None = None
     temperature_range: tuple[float, float] | None = None
+    depth: float | None = None  # liquid: immersion depth of the model's reference point [m]
     max_model_reference_length: float | None = None
     test_section_area: float | None = None
     max_blockage: float | None = None
@@ -291,6 +293,11 @@ class InputSpec:
         Number of readings of a Type A evaluation.
     coverage_probability : float or None
         As written with an expanded uncertainty.
+    correction : float
+        Known correction [SI, or a fraction for a property-model error]: the mean of the
+        deviation (JCGM 100 3.2.4: a known systematic effect is corrected, and the
+        uncertainty of the correction remains).  It is applied to every quantity in
+        ``targets`` in the nominal state, so the set point is solved with it.
     """
 
     name: str
@@ -312,6 +319,7 @@ class InputSpec:
     coverage_probability: float | None = None
     controllable: bool = True
     cost: CostModel | None = None
+    correction: float = 0.0
 
     def __post_init__(self) -> None:
         if not self.targets:

@@ -239,7 +239,50 @@ def _type_a(t: Table, size_kind: str, targets: tuple) -> tuple[Parsed, int, str]
     return Parsed(sd.value / math.sqrt(raw_n), sd.relative), raw_n, text
 
 
-def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> InputSpec:
+_PROPERTY_TARGETS = {"viscosity_model": ("viscosity", False), "density_model": ("density", False),
+                     "full_scale_viscosity_model": ("viscosity", True),
+                     "full_scale_density_model": ("density", True)}
+
+
+def _stated(t: Table, size_kind: str, raw: Any, targets: tuple, fluid: Fluid | None,
+            full_scale_fluid: Fluid | None) -> str:
+    """``standard_uncertainty = "stated"``: the fluid model's own stated uncertainty, as a %."""
+    props = {_PROPERTY_TARGETS.get(x, ("", False))[0] for x in targets}
+    what = ("'stated' only as the standard_uncertainty of viscosity_model, density_model or their "
+            "full_scale_ forms (one property; the fluid's stated uncertainty)")
+    if size_kind != "standard_uncertainty" or len(props) != 1 or "" in props:
+        raise StudyError(t.key(size_kind), raw, what)
+    prop = props.pop()
+    full = _PROPERTY_TARGETS[targets[0]][1]
+    chosen = full_scale_fluid if full else fluid
+    if chosen is None:
+        raise StudyError(t.key(size_kind), raw, what)
+    return f"{100.0 * float(chosen.stated_uncertainty[prop]):.6g} %"
+
+
+def _correction(t: Table, targets: tuple) -> float:
+    """``correction``: a known correction in the quantity's units (a fraction or % for a
+    property-model error or another dimensionless quantity)."""
+    if not t.has("correction"):
+        return 0.0
+    raw = t.data["correction"]
+    dims = {TARGETS[x].dimension for x in targets}
+    no_reading = all(TARGETS[x].reading is None for x in targets)
+    key = t.key("correction")
+    if len(dims) > 1:
+        raise StudyError(key, raw, "a correction only for quantities of one dimension in perturbs")
+    value = parse(key, raw, TARGETS[targets[0]].dimension, allow_relative=False) if not (
+        no_reading or dims == {"dimensionless"}) else parse(key, raw, "dimensionless",
+                                                             allow_relative=True)
+    check_finite(key, raw, value.value)
+    if value.relative and not no_reading:
+        raise StudyError(key, raw, "a correction in the quantity's own units (e.g. '0.3 K', "
+                         "'20 Pa'); % is taken only for a property-model error")
+    return float(value.value)
+
+
+def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
+               full_scale_fluid: Fluid | None = None) -> InputSpec:
     """One ``[[uncertain]]`` table -> :class:`InputSpec` (docs/study-file.md lists every key)."""
     t = Table(data, f"uncertain[{index}]", INPUT_KEYS)
     name = t.text("name", f"input {index + 1}")
@@ -292,13 +335,7 @@ def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> 
     else:
         raw = written = t.data[size_kind]
         if raw == "stated":
-            prop = {"viscosity_model": "viscosity", "density_model": "density"}.get(target)
-            if size_kind != "standard_uncertainty" or prop is None or fluid is None or \
-                    len(targets) > 1:
-                raise StudyError(t.key(size_kind), raw, "'stated' only as the standard_uncertainty "
-                                 "of viscosity_model or density_model alone (the fluid's stated "
-                                 "uncertainty)")
-            raw = f"{100.0 * float(fluid.stated_uncertainty[prop]):.6g} %"
+            raw = _stated(t, size_kind, raw, targets, fluid, full_scale_fluid)
         size = _size(t, size_kind, raw, targets, relative=size_kind != "resolution")
         text = f"stated ({raw})" if written == "stated" else str(raw)
         if size_kind == "expanded_uncertainty":
@@ -319,12 +356,15 @@ def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None) -> 
                          "such as '0.5 %' for a lognormal (multiplicative) error")
     if beta is not None:
         text += f", beta = {beta:g}"
+    correction = _correction(t, targets)
+    if correction:
+        text += f", correction {t.data['correction']}"
     return InputSpec(name, target, dist, cast(SizeKind, size_kind), size, cov_k, text,
                      t.text("note", ""), t.prefix,
                      targets=targets, component=component, dof=nu, beta=beta, limit=limit,
                      fixed=fixed, count=count, coverage_probability=p,
                      controllable=planning.controllable(t, targets),
-                     cost=planning.cost_model(t, targets))
+                     cost=planning.cost_model(t, targets), correction=correction)
 
 
 def read_correlations(data: Any, names: list[str]) -> Correlation | None:

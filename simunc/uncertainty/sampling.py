@@ -34,6 +34,13 @@ input keeps its marginal exactly.  The Pearson correlation of the normal
 scores is ``R``; that of two normal inputs is ``R``; the Spearman rank
 correlation of any two continuous inputs is ``(6 / pi) arcsin(R_ij / 2)``.
 
+Only the inputs that take part in a correlation (:func:`correlated_inputs`: a non-zero
+off-diagonal entry in their row of ``R``) go through the copula.  The other columns are
+left as they are: ``R`` and ``L`` are the identity on them, so the full transform would
+give back the same uniforms (to the rounding of ``ndtr(ndtri(u))``), and the correlated
+columns come out bit for bit as from the full ``d`` by ``d`` transform.  With no
+correlation, or an identity matrix, there is no copula work at all.
+
 References
 ----------
 .. [1] M. D. McKay, R. J. Beckman, W. J. Conover, "A comparison of three
@@ -273,6 +280,8 @@ def gaussian_copula(u: np.ndarray, correlation) -> np.ndarray:
     uniform on (0, 1), so mapping ``u'`` through the inverse CDFs keeps every
     marginal.  The products are written out input by input (no matrix
     library call), so each trial's values do not depend on the number of rows.
+    Only the columns of :func:`correlated_inputs` are transformed; the others
+    are returned unchanged.
 
     Parameters
     ----------
@@ -297,21 +306,62 @@ def gaussian_copula(u: np.ndarray, correlation) -> np.ndarray:
     return copula_with_factor(u, correlation_factor(correlation, u.shape[1]))
 
 
-def copula_with_factor(u: np.ndarray, factor: np.ndarray) -> np.ndarray:
-    """:func:`gaussian_copula` with the Cholesky factor ``L`` already computed (and checked)."""
-    n, d = u.shape
-    z = special.ndtri(np.clip(np.ascontiguousarray(u.T), _EPS, 1.0 - _EPS))
+def correlated_inputs(matrix) -> np.ndarray:
+    """Indices, ascending, of the inputs that take part in a correlation: those with a non-zero
+    off-diagonal entry in their row or column of ``matrix``.
+
+    ``matrix`` is the normal-score correlation ``R`` or its Cholesky factor ``L``: both give
+    the same set, since an input whose row of ``R`` is zero off the diagonal has ``L``'s row
+    and column zero off the diagonal too (``L_ii = 1``), exactly, in floating point.
+
+    >>> correlated_inputs(np.array([[1.0, 0.0, 0.3], [0.0, 1.0, 0.0], [0.3, 0.0, 1.0]]))
+    array([0, 2])
+    >>> correlated_inputs(np.eye(3)).size
+    0
+    """
+    off = np.asarray(matrix, dtype=float) != 0.0
+    np.fill_diagonal(off, False)
+    return np.flatnonzero(off.any(axis=0) | off.any(axis=1))
+
+
+def _copula_columns(u: np.ndarray, inputs: np.ndarray, sub_factor: np.ndarray) -> None:
+    """In place: columns ``inputs`` of ``u`` through the Gaussian copula whose Cholesky factor
+    on those inputs is ``sub_factor`` (``L[inputs][:, inputs]``); the other columns are not
+    touched.  The products are written out input by input (no matrix library call), so each
+    trial's values do not depend on the number of rows."""
+    k = inputs.size
+    if k == 0:
+        return
+    n = u.shape[0]
+    z = np.empty((k, n))                       # one contiguous row per correlated input
+    for a, j in enumerate(inputs):
+        z[a] = u[:, j]
+    np.clip(z, _EPS, 1.0 - _EPS, out=z)
+    special.ndtri(z, out=z)
     out = np.empty_like(z)
     tmp = np.empty(n)
-    for i in range(d):
-        row = out[i]
-        np.multiply(z[0], factor[i, 0], out=row)
-        for k in range(1, i + 1):
-            if factor[i, k] != 0.0:
-                np.multiply(z[k], factor[i, k], out=tmp)
+    for a in range(k):
+        row = out[a]
+        np.multiply(z[0], sub_factor[a, 0], out=row)
+        for b in range(1, a + 1):
+            if sub_factor[a, b] != 0.0:
+                np.multiply(z[b], sub_factor[a, b], out=tmp)
                 row += tmp
     special.ndtr(out, out=out)
-    return out.T
+    for a, j in enumerate(inputs):
+        u[:, j] = out[a]
+
+
+def copula_with_factor(u: np.ndarray, factor: np.ndarray) -> np.ndarray:
+    """:func:`gaussian_copula` with the Cholesky factor ``L`` already computed (and checked).
+
+    Only the inputs of :func:`correlated_inputs` go through the copula; the result is a new
+    array, ``u`` is not changed.
+    """
+    v = np.array(u, dtype=float)
+    inputs = correlated_inputs(factor)
+    _copula_columns(v, inputs, factor[np.ix_(inputs, inputs)])
+    return v
 
 
 class InputSampler:
@@ -350,6 +400,11 @@ class InputSampler:
             correlation.matrix if isinstance(correlation, Correlation)
             else np.array(correlation, dtype=float))
         self.factor = None if correlation is None else correlation_factor(correlation, self.d)
+        #: Inputs that go through the copula (:func:`correlated_inputs`) and ``L`` on them.
+        self.copula_inputs = correlated_inputs(self.factor) if self.factor is not None \
+            else np.empty(0, dtype=np.intp)
+        self.copula_factor = None if self.factor is None \
+            else self.factor[np.ix_(self.copula_inputs, self.copula_inputs)]
 
     def draw(self, first: int, sizes: Sequence[int]) -> np.ndarray:
         """Input values of blocks ``first, first + 1, ...`` of the given sizes, stacked."""
@@ -360,8 +415,8 @@ class InputSampler:
             for b, size in enumerate(sizes, start=first):
                 u[ofs:ofs + size] = unit_block(self.method, size, self.d, self.seed, b)
                 ofs += size
-            if self.factor is not None:
-                u = copula_with_factor(u, self.factor)
+            if self.copula_factor is not None:
+                _copula_columns(u, self.copula_inputs, self.copula_factor)
         return map_to_inputs(u, self.distributions)
 
 

@@ -61,6 +61,16 @@ def test_report_sections(demo_run):
     assert "20000" in md and "| seed" in md
 
 
+def test_report_states_what_scaling_a_correlated_input_assumed(demo_run):
+    # The demo correlates its two pressure transducers (r = 0.8, a shared calibration standard);
+    # the tightening halves each and the allocation scales them with r kept, which assumes the
+    # shared part improves too (JCGM 100 5.2: r describes the errors as written).
+    md = (demo_run / "report.md").read_text()
+    part = md.split("### Scaling correlated inputs", 1)[1].split("\n#", 1)[0]
+    assert "p0 transducer calibration, correlated with static-pressure transducer (r = 0.8)" in part
+    assert "r kept" in part and "input of its own" in part
+
+
 def test_results_json_schema(demo_run):
     doc = json.loads((demo_run / "results.json").read_text())
     assert doc["schema_version"] == 1

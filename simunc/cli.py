@@ -10,6 +10,9 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import time
+import warnings
+from collections.abc import Callable
 from typing import TYPE_CHECKING
 
 from simunc import __version__
@@ -19,6 +22,7 @@ from simunc.errors import (
     EXIT_OK,
     SimuncError,
     StudyError,
+    plain,
 )
 
 if TYPE_CHECKING:
@@ -27,6 +31,7 @@ if TYPE_CHECKING:
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message: str):  # one line, exit 2
+        message = plain(message)  # it may quote the command line
         self.exit(EXIT_BAD_INPUT, f"simunc: error: {message} (see 'simunc {self.prog.split()[-1]} -h')\n"
                   if " " in self.prog else f"simunc: error: {message} (see 'simunc -h')\n")
 
@@ -65,6 +70,8 @@ def _parser() -> argparse.ArgumentParser:
         r.add_argument("--trials", type=_positive_int(100), help="Monte Carlo trials (default: run.trials)")
         r.add_argument("--seed", type=_positive_int(0), help="random seed (default: run.seed)")
         r.add_argument("--samples", choices=("csv", "parquet"), help="also write the trials")
+        r.add_argument("--overwrite", action="store_true",
+                       help="replace files under the report's names that simunc did not write")
         if name == "sweep":
             r.add_argument("--input", action="append", metavar="NAME",
                            help="input to sweep (give it twice for a 2-D sweep)")
@@ -77,13 +84,15 @@ def _parser() -> argparse.ArgumentParser:
 
 
 def _check(args) -> int:
-    from simunc.similitude.setpoint import solve
+    from simunc.similitude.prepared import prepare
     from simunc.study.readers import load_study
+    from simunc.study.slips import likely_slips
 
     study = load_study(args.study)
-    sp = solve(study)
+    sp = prepare(study).setpoint  # the set point, and every input's extremes physical
     o = sp.outputs
-    print(f"{args.study}: valid study '{study.title}' with {len(study.inputs)} uncertain inputs")
+    print(f"{plain(args.study)}: valid study '{plain(study.title)}' with {len(study.inputs)} "
+          "uncertain inputs")
     solved = ", ".join(sp.solve_for) or "nothing"
     if study.kind == "gas":
         state = (f"p0 = {o['stagnation_pressure']:.6g} Pa, T0 = {o['stagnation_temperature']:.6g} K, "
@@ -95,7 +104,9 @@ def _check(args) -> int:
     print(f"set point ({solved} solved, {sp.method}): {state}, model reference length = "
           f"{o['model_length']:.6g} m; {groups}; {'feasible' if sp.feasible else 'NOT feasible'}")
     for m in sp.messages:
-        print("  " + m)
+        print("  " + plain(m))
+    for m in likely_slips(study):
+        print("  warning: " + plain(m))
     return EXIT_OK
 
 
@@ -125,13 +136,20 @@ def _cli_sweeps(args, study) -> tuple:
 
 
 def _run(args) -> int:
-    from simunc.pipeline import run
-    from simunc.report import write_report
-    from simunc.report.write import check_out_dir
+    from simunc.report.folder import check_out_dir, folder_lock, foreign_report_files
     from simunc.study.readers import load_study
 
-    check_out_dir(args.out)
+    out = check_out_dir(args.out)
+    foreign_report_files(out, args.out, args.overwrite)
     study = load_study(args.study)
+    with folder_lock(out, args.out):   # one run per report folder, from the start
+        return _run_locked(args, study)
+
+
+def _run_locked(args, study) -> int:
+    from simunc.pipeline import run
+    from simunc.report import write_report
+
     parts_of: dict[str, tuple[Part, ...]] = {"run": ("requirements", "sweeps"), "rank": (),
                                              "sweep": ("sweeps",), "allocate": ("requirements",)}
     parts, extra = parts_of[args.command], ()
@@ -140,40 +158,76 @@ def _run(args) -> int:
                          "for 'simunc allocate' (see docs/study-file.md)")
     if args.command == "sweep":
         extra = _cli_sweeps(args, study)
-    result = run(study, trials=args.trials, seed=args.seed, parts=parts, extra_sweeps=extra)
-    written = write_report(result, args.out, samples=args.samples)
+    if args.samples:
+        from simunc.pipeline import require_samples
+        require_samples(study, args.trials)  # before anything runs
+    progress = _progress()
+    try:
+        result = run(study, trials=args.trials, seed=args.seed, parts=parts, extra_sweeps=extra,
+                     progress=progress)
+    finally:
+        if progress is not None:
+            sys.stderr.write("\r\x1b[K")  # the progress line goes before anything else shows
+    written = write_report(result, args.out, samples=args.samples, overwrite=args.overwrite)
     sp = result.setpoint
     print(f"set point {'feasible' if sp.feasible else 'NOT feasible'}; "
           f"P(all matched groups in band) = {result.conformity['all']:.4f} over {result.trials} trials")
     if result.tightening is not None and result.tightening["controllable"].any():
         t = result.tightening
-        print(f"control more tightly first: {t[t['controllable']].index[0]}")
+        print(f"control more tightly first: {plain(t[t['controllable']].index[0])}")
     if result.requirement_checks is not None:
         met = sum(c.met for c in result.requirement_checks)
         print(f"requirements met at the written tolerances: {met} of "
               f"{len(result.requirement_checks)}")
     a = result.allocation
     if a is not None:
-        print(f"allocation: {a.message}" if a.message else
+        print(f"allocation: {plain(a.message)}" if a.message else
               f"allocation: cost {a.cost:.6g}; fresh Monte Carlo check "
               f"{'passed' if a.verified else 'FAILED'} ({a.verify_trials} trials)")
-    print(f"wrote {len(written)} files to {args.out}: " + ", ".join(p.name for p in written))
+    print(f"wrote {len(written)} files to {plain(args.out)}: " + ", ".join(p.name for p in written))
     return EXIT_OK
+
+
+def _progress() -> Callable[[str, int, int], None] | None:
+    """Progress of the long stages on standard error (one line rewritten in place, with an
+    estimate of the time left), when standard error is a terminal."""
+    if not sys.stderr.isatty():
+        return None
+    state: dict = {"stage": "", "start": 0.0, "shown": 0.0}
+
+    def show(stage: str, done: int, total: int) -> None:
+        now = time.monotonic()
+        if stage != state["stage"]:
+            state.update(stage=stage, start=now, shown=0.0)
+        if now - state["shown"] < 0.5 and done < total:
+            return
+        state["shown"] = now
+        elapsed = now - state["start"]
+        left = f", about {elapsed * (total - done) / done:.0f} s left" if 0 < done < total \
+            and elapsed > 2.0 else ""
+        count = f" {done} of {total}{left}" if total > 1 else "..."
+        sys.stderr.write(f"\r\x1b[Ksimunc: {stage}{count}" + ("\r\x1b[K" if done >= total > 1
+                                                             else ""))
+        sys.stderr.flush()
+
+    return show
 
 
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
     try:
-        return _check(args) if args.command == "check" else _run(args)
+        with warnings.catch_warnings():  # numbers outside a formula's range are refused or
+            warnings.simplefilter("ignore", RuntimeWarning)  # reported, never printed raw
+            return _check(args) if args.command == "check" else _run(args)
     except StudyError as exc:
         print(f"simunc: error: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except MemoryError:
-        print("simunc: error: not enough memory for this run (lower --trials or "
-              "run.sobol_base_samples)", file=sys.stderr)
+        print("simunc: error: not enough memory for this run (lower --trials, "
+              "run.sobol_base_samples or design.trials)", file=sys.stderr)
         return EXIT_BAD_INPUT
     except SimuncError as exc:
-        print(f"simunc: error: {exc}", file=sys.stderr)
+        print(f"simunc: error: {plain(exc)}", file=sys.stderr)
         return exc.exit_code
     except KeyboardInterrupt:
         print("simunc: interrupted", file=sys.stderr)
@@ -181,7 +235,7 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # noqa: BLE001 - last resort: one line, exit 1
         if os.environ.get("SIMUNC_DEBUG"):
             raise
-        print(f"simunc: internal error: {type(exc).__name__}: {exc} (set SIMUNC_DEBUG=1 for a "
+        print(f"simunc: internal error: {type(exc).__name__}: {plain(exc)} (set SIMUNC_DEBUG=1 for a "
               "traceback)", file=sys.stderr)
         return EXIT_INTERNAL
 

@@ -12,9 +12,10 @@ This is the Python API behind ``simunc run``::
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass, replace
-from typing import Any, Literal, cast
+from typing import Literal, cast
 
 import numpy as np
 import pandas as pd
@@ -29,21 +30,24 @@ from simunc.decisions.design import (
     stream_seed,
 )
 from simunc.decisions.requirements import Check
-from simunc.decisions.sweeps import SweepResult, sweep
+from simunc.decisions.sweeps import SweepResult, sweep, sweep_scales
 from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
 from simunc.physics.dimensional import PiGroup
 from simunc.similitude.envelope import Envelope, envelope
-from simunc.similitude.inputs import UncertainInput, build_inputs, similitude_problem
-from simunc.similitude.model import SimilitudeModel, trial_problems
-from simunc.similitude.setpoint import SetPoint, build_model, solve
+from simunc.similitude.inputs import UncertainInput
+from simunc.similitude.inputs import similitude_problem as similitude_problem  # re-exported
+from simunc.similitude.model import SimilitudeModel, bad_trials, trial_problems
+from simunc.similitude.prepared import Overrides, Prepared, non_physical, prepare
+from simunc.similitude.setpoint import SetPoint
 from simunc.similitude.testplan import TestPlan, plan
 from simunc.study.catalogue import CONDITION_TARGETS, describe_output
+from simunc.study.planning import check_sweep_budget
 from simunc.study.schema import Band, RunSettings, Study, Sweep
+from simunc.study.slips import likely_slips
 from simunc.uncertainty.lpu import LPUResult, lpu, validate
 from simunc.uncertainty.problem import Problem
 from simunc.uncertainty.propagate import PropagationResult, adaptive, propagate
-from simunc.uncertainty.sampling import normal_score_correlation
 from simunc.uncertainty.shapley import shapley_effects
 from simunc.uncertainty.sobol import SobolResult, sobol_analysis
 from simunc.uncertainty.statistics import (normal_quantile_standard_error,
@@ -51,6 +55,8 @@ from simunc.uncertainty.statistics import (normal_quantile_standard_error,
 
 #: The optional parts of a run.
 Part = Literal["requirements", "sweeps"]
+#: ``progress(stage, done, total)``: called as long stages advance (the CLI shows it).
+Progress = Callable[[str, int, int], None]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -177,8 +183,10 @@ class TrialMonitor:
     histogram.
     """
 
-    def __init__(self, study: Study, model: SimilitudeModel) -> None:
+    def __init__(self, study: Study, model: SimilitudeModel, prep: Prepared | None = None,
+                 total: int = 0, progress: Progress | None = None) -> None:
         self.study, self.model = study, model
+        self.prep, self.total, self.progress = prep, total, progress
         self.n = 0
         self.inside = {b.group: 0 for b in study.bands} | {"all": 0}
         self.sonic = 0
@@ -189,6 +197,9 @@ class TrialMonitor:
         n = len(next(iter(y.values())))
         reasons = trial_problems(y, self.model)
         if reasons:
+            if self.prep is not None:
+                raise non_physical(self.prep, x[bad_trials(y, self.model)], reasons,
+                                   f"Monte Carlo trials (a chunk of {n})")
             raise StudyError("uncertain", f"sizes that make trials non-physical ({'; '.join(reasons)}"
                              f" of a chunk of {n})", "input sizes small enough that every trial is "
                              "a physical state")
@@ -201,6 +212,8 @@ class TrialMonitor:
             self.preview.append(np.array(take))
             self._kept += len(take)
         self.n += n
+        if self.progress is not None:
+            self.progress("Monte Carlo trials", self.n, max(self.total, self.n))
 
     def conformity(self) -> dict[str, float]:
         return {g: c / self.n for g, c in self.inside.items()}
@@ -264,60 +277,31 @@ def component_split(result_lpu, inputs, outputs) -> pd.DataFrame:
 PARTS: tuple[Part, ...] = ("requirements", "sweeps")
 
 
-@dataclass(frozen=True, kw_only=True)
-class Overrides:
-    """Run settings given outside the study (command-line options, API arguments)."""
+def _physical_problem(prep: Prepared, sample: str) -> Problem:
+    """``prep.problem`` refusing non-physical trials of ``sample`` with the input at fault."""
+    problem, names = prep.problem, list(prep.problem.names)
 
-    trials: int | None = None
-    seed: int | None = None
+    def func(x: Mapping[str, np.ndarray]) -> Mapping[str, np.ndarray]:
+        y = problem.func(x)
+        n = max((np.size(v) for v in x.values()), default=1)
+        full = {k: np.broadcast_to(v, (n,)) for k, v in y.items()}
+        reasons = trial_problems(full, prep.model)
+        if reasons:
+            matrix = np.column_stack([np.broadcast_to(x[k], (n,)) for k in names])
+            raise non_physical(prep, matrix[bad_trials(full, prep.model)], reasons,
+                               f"{sample} ({n} rows)")
+        return y
 
-
-@dataclass(frozen=True, kw_only=True)
-class Prepared:
-    """A study made ready for every analysis: settings, set point, model, inputs, problem.
-
-    The CLI, the Python API, the tests and the benchmarks all start here, so the model
-    they evaluate is the one ``simunc run`` evaluates.
-    """
-
-    study: Study
-    settings: RunSettings             # the study's [run] with the overrides applied
-    setpoint: SetPoint
-    model: SimilitudeModel
-    inputs: tuple[UncertainInput, ...]
-    problem: Problem
-    correlation: np.ndarray | None    # Pearson correlation of the inputs, [[uncertain]] order
-    copula: np.ndarray | None         # normal-score correlation that reproduces it (sampling)
+    return replace(problem, func=func)
 
 
-def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
-    """Stage 1: solve the set point, build the model there and the inputs around it.
-
-    Parameters
-    ----------
-    study : Study
-        From :func:`simunc.load_study`.
-    overrides : Overrides, optional
-        Trials and seed replacing the study's ``[run]`` values.
-    """
-    o = overrides or Overrides()
-    changes: dict[str, Any] = {k: v for k, v in (("trials", o.trials), ("seed", o.seed))
-                               if v is not None}
-    settings = replace(study.run, **changes)
-    setpoint = solve(study)
-    model = build_model(study, next(f for f in study.facility.fluids if f.name == setpoint.fluid))
-    inputs = tuple(build_inputs(study.inputs, setpoint))
-    pearson = study.correlation.matrix if study.correlation else None
-    copula = None
-    if pearson is not None:
-        try:
-            copula = normal_score_correlation(pearson, [i.distribution for i in inputs])
-        except ValueError as exc:
-            raise StudyError("correlations", "the pairs given", "coefficients the inputs' "
-                             f"distributions can have together ({exc})") from exc
-    return Prepared(study=study, settings=settings, setpoint=setpoint, model=model, inputs=inputs,
-                    problem=similitude_problem(model, setpoint, list(inputs)),
-                    correlation=pearson, copula=copula)
+@contextmanager
+def _memory(key: str, given: str, expected: str) -> Iterator[None]:
+    """Turn running out of memory in one stage into an error naming that stage's key."""
+    try:
+        yield
+    except MemoryError as exc:
+        raise StudyError(key, given, f"{expected} (not enough memory for this one)") from exc
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -331,13 +315,25 @@ class MonteCarloStage:
     warnings: tuple[str, ...]
 
 
-def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
+def monte_carlo_stage(prep: Prepared, progress: Progress | None = None) -> MonteCarloStage:
     """Propagate the inputs (fixed or adaptive trials), count conformity, collect warnings."""
+    settings = prep.settings
+    if settings.adaptive:
+        key, given = "run.max_trials", f"adaptive trials up to {settings.max_trials}"
+    else:
+        key, given = "run.trials", f"{settings.trials} trials"
+    with _memory(key, given, "fewer trials (the study's value or --trials)"):
+        return _monte_carlo(prep, progress)
+
+
+def _monte_carlo(prep: Prepared, progress: Progress | None) -> MonteCarloStage:
     study, settings, setpoint = prep.study, prep.settings, prep.setpoint
     problem, correlation = prep.problem, prep.copula
-    monitor = TrialMonitor(study, prep.model)
+    monitor = TrialMonitor(study, prep.model, prep, settings.trials or 0, progress)
     p = settings.coverage_probability
     if settings.adaptive:
+        if progress is not None:
+            progress("adaptive Monte Carlo (batches until stable)", 0, 1)
         # Stop on the matched groups (JCGM 101, 7.9), then evaluate every output on the very same
         # trials: the adaptive run is block for block propagate(h M trials, block size M).
         probe = adaptive(problem, settings.seed, n_digits=settings.significant_digits,
@@ -345,6 +341,7 @@ def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
                          max_trials=settings.max_trials,
                          outputs=[b.output for b in study.bands] if prep.inputs else None)
         assert probe.adaptive is not None  # adaptive() always reports its batches
+        monitor.total = probe.trials
         res = propagate(problem, probe.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=probe.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor,
@@ -355,7 +352,7 @@ def monte_carlo_stage(prep: Prepared) -> MonteCarloStage:
         res = propagate(problem, settings.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=settings.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor)
-    warnings = monitor.warnings() + list(setpoint.coverage)
+    warnings = list(likely_slips(study)) + monitor.warnings() + list(setpoint.coverage)
     if not setpoint.feasible:
         top = min((b.priority for b in study.bands if b.solve), default=1)
         first_ok = all(abs(setpoint.mismatch.get(b.group, 0.0)) < 1e-6 for b in study.bands
@@ -388,19 +385,32 @@ class SensitivityStage:
     shapley: dict[str, pd.DataFrame] | None
 
 
-def sensitivity_stage(prep: Prepared, mc: MonteCarloStage) -> SensitivityStage:
-    study, settings, problem = prep.study, prep.settings, prep.problem
+def sensitivity_stage(prep: Prepared, mc: MonteCarloStage,
+                      progress: Progress | None = None) -> SensitivityStage:
+    study, settings = prep.study, prep.settings
     outputs = [b.output for b in study.bands]
     sens = study.sensitivity
-    sobol_result = sobol_analysis(problem, outputs, settings.sobol_base_samples, settings.seed,
-                                  second_order=sens.second_order,
-                                  groups=sens.groups or None) if prep.inputs and outputs else None
+    n, d = settings.sobol_base_samples, len(prep.inputs)
+    rows = n * ((2 * d + 2) if sens.second_order else (d + 2))
+    if progress is not None and prep.inputs and outputs:
+        progress("Sobol indices", 0, 1)
+    with _memory("run.sobol_base_samples", f"{n} base samples ({rows} model rows for {d} inputs)",
+                 "a smaller power of two"):
+        sobol_result = sobol_analysis(
+            _physical_problem(prep, "Sobol sample"), outputs, n, settings.seed,
+            second_order=sens.second_order, groups=sens.groups or None) \
+            if prep.inputs and outputs else None
     sobol = sobol_result.first_total if sobol_result else {
         o: pd.DataFrame(columns=["S1", "S1_conf", "ST", "ST_conf"]) for o in outputs}
     want_shapley = sens.shapley == "yes" or (sens.shapley == "auto"
                                               and prep.correlation is not None)
-    shapley = shapley_effects(problem, outputs, prep.copula, seed=settings.seed) \
-        if prep.inputs and outputs and want_shapley else None
+    if progress is not None and prep.inputs and outputs and want_shapley:
+        progress("Shapley effects", 0, 1)
+    with _memory("sensitivity.shapley", f"Shapley effects of {d} inputs", "shapley = false, or "
+                 "fewer inputs"):
+        shapley = shapley_effects(_physical_problem(prep, "Shapley sample"), outputs,
+                                  prep.copula, seed=settings.seed) \
+            if prep.inputs and outputs and want_shapley else None
     ranking = _ranking(sobol, mc.statistics, study, list(prep.inputs),
                        shapley if prep.correlation is not None else None)
     return SensitivityStage(sobol_result=sobol_result, sobol=sobol, ranking=ranking,
@@ -452,20 +462,23 @@ class DecisionStage:
 
 
 def decision_stage(prep: Prepared, sens: SensitivityStage, gum: GumStage,
-                   parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = ()
-                   ) -> DecisionStage:
+                   parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = (),
+                   progress: Progress | None = None) -> DecisionStage:
     """Tightening, requirements, allocation and sweeps on the design sample.
 
     BLAS runs on one thread here: the allocation's optimiser and surrogate reduce small
     matrices whose summation order (and so the last bits, which the bisections amplify to
     1e-5) would otherwise depend on the machine's thread count.
     """
-    with threadpool_limits(limits=1, user_api="blas"):
-        return _decisions(prep, sens, gum, parts, extra_sweeps)
+    ds = prep.study.design
+    with threadpool_limits(limits=1, user_api="blas"), _memory(
+            "design.trials", f"{ds.trials} design trials and {ds.verify_trials} verification "
+            "trials", "fewer design.trials or design.verify_trials"):
+        return _decisions(prep, sens, gum, parts, extra_sweeps, progress)
 
 
 def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Sequence[Part],
-               extra_sweeps: Sequence[Sweep]) -> DecisionStage:
+               extra_sweeps: Sequence[Sweep], progress: Progress | None) -> DecisionStage:
     study, setpoint, inputs = prep.study, prep.setpoint, list(prep.inputs)
     if not inputs:
         return DecisionStage()
@@ -473,7 +486,9 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
     settings, ds = prep.settings, study.design
     design = Design(problem, study, setpoint, ds.trials, stream_seed(settings.seed, DESIGN_STREAM),
                     settings.sampling, prep.copula, model)
-    _require_physical(design.figures(design.ones()), "design", ds.trials)
+    _require_physical(prep, design, "design")
+    if progress is not None:
+        progress("tightening, requirements and allocation", 0, 1)
     removed = {}
     for out in (b.output for b in study.bands):
         if sens.shapley is not None:
@@ -490,8 +505,7 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
     checks = limits = allocation = None
     if "requirements" in parts and study.requirements:
         fresh = verify_design()
-        written = fresh.figures(fresh.ones())
-        _require_physical(written, "verification", ds.verify_trials)
+        written = _require_physical(prep, fresh, "verification")
         checks = tuple(written.requirements)
         limits = input_limits(design, inputs)
         if any(i.spec.cost is not None for i in inputs):
@@ -504,12 +518,23 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
             coefficients = _sensitivities(gum.lpu, problem, correlation, needed)
             try:
                 allocation = allocate(design, inputs, coefficients, cov, verify_design)
-            except ValueError as exc:
-                raise StudyError("uncertain.grades", str(exc), "fewer grade combinations") from exc
+            except ValueError as exc:  # refused at load already; kept for a Study built in code
+                key = next((i.spec.cost.key for i in inputs if i.spec.cost is not None),
+                           "requirement")
+                raise StudyError(key, str(exc), "fewer grade combinations") from exc
     sweeps: tuple[SweepResult, ...] = ()
     if "sweeps" in parts:
+        chosen = tuple(study.sweeps) + tuple(extra_sweeps)
+        total = sum(sweep_points(sw) for sw in chosen)
+        done = [0]
+
+        def step(i: int, n: int) -> None:
+            done[0] += 1
+            if progress is not None:
+                progress("tolerance sweeps (points)", done[0], total)
+
         sweeps = tuple(sweep(design, sw.key, sw.inputs, sw.scale[0], sw.scale[1], sw.points,
-                             sw.spacing) for sw in tuple(study.sweeps) + tuple(extra_sweeps))
+                             sw.spacing, on_point=step) for sw in chosen)
     return DecisionStage(design_trials=design.trials, tightening=tight, requirement_checks=checks,
                          input_limits=limits, allocation=allocation, sweeps=sweeps,
                          correlated_scaling=_correlated_scaling(prep, allocation, sweeps))
@@ -564,13 +589,38 @@ def _endpoint_se(mc: MonteCarloStage, outputs: Sequence[str]) -> dict[str, tuple
     return out
 
 
-def _require_physical(fig: Figures, sample: str, trials: int) -> None:
-    """Refuse a sample at the written tolerances with trials that are not physical states, as
-    the main run does (one bad input, one message, exit 2)."""
+def _require_physical(prep: Prepared, design: Design, sample: str) -> Figures:
+    """The figures of a design sample at the written tolerances; refused, as the main run
+    refuses, when some trials are not physical states (one message naming the input at fault,
+    exit 2)."""
+    y = design.evaluate(design.ones())
+    fig = design.figures(design.ones(), y=y)
     if not fig.finite:
-        raise StudyError("uncertain", f"sizes that make {sample} trials non-physical "
-                         f"({'; '.join(fig.problems)} of {trials})", "input sizes small "
-                         "enough that every trial is a physical, subsonic state")
+        bad = bad_trials(y, prep.model)
+        if not bad.size:  # only trials at Ma >= 1 (the design sample's own rule)
+            bad = np.flatnonzero(np.asarray(y["mach_model"]) >= 1.0)[:16]
+        raise non_physical(prep, design.x[bad], fig.problems,
+                           f"{sample} trials ({design.trials}, another sample than the main run)")
+    return fig
+
+
+def sweep_points(sw: Sweep) -> int:
+    """Points a sweep evaluates (scale 1 added when inside the range)."""
+    return len(sweep_scales(sw.scale[0], sw.scale[1], sw.points, sw.spacing)) ** len(sw.inputs)
+
+
+def require_samples(study: Study, trials: int | None) -> None:
+    """Refuse, before anything runs, ``--samples`` for a run that will not keep its trials
+    (more than :data:`KEEP_LIMIT`, or adaptive with ``run.max_trials`` above it)."""
+    n = trials if trials is not None else study.run.trials
+    if n is None and study.run.max_trials > KEEP_LIMIT:
+        raise StudyError("--samples", f"an adaptive run of up to run.max_trials = "
+                         f"{study.run.max_trials} trials", f"at most {KEEP_LIMIT} trials (fixed "
+                         "trials, or run.max_trials at most that): larger runs stream and keep "
+                         "no trials")
+    if n is not None and n > KEEP_LIMIT:
+        raise StudyError("--samples", f"{n} trials", f"at most {KEEP_LIMIT} trials (larger runs "
+                         "stream and keep no trials): lower --trials or run.trials")
 
 
 def _sensitivities(result_lpu: LPUResult, problem: Problem, correlation, outputs) -> pd.DataFrame:
@@ -585,7 +635,7 @@ def _sensitivities(result_lpu: LPUResult, problem: Problem, correlation, outputs
 
 def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = (),
-        prepared: Prepared | None = None) -> Result:
+        prepared: Prepared | None = None, progress: Progress | None = None) -> Result:
     """Solve the set point, propagate the uncertain inputs, rank them, solve the requirements.
 
     Parameters
@@ -601,12 +651,16 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         Sweeps to run besides the study's (the ``simunc sweep`` command).
     prepared : Prepared, optional
         The result of :func:`prepare` for this study, when the caller has it already.
+    progress : callable, optional
+        ``progress(stage, done, total)``, called as the long stages advance.
     """
+    if "sweeps" in parts:  # refuse sizes that cannot finish before anything runs
+        check_sweep_budget(tuple(study.sweeps) + tuple(extra_sweeps), study.design)
     prep = prepared or prepare(study, Overrides(trials=trials, seed=seed))
-    mc = monte_carlo_stage(prep)
-    sens = sensitivity_stage(prep, mc)
+    mc = monte_carlo_stage(prep, progress)
+    sens = sensitivity_stage(prep, mc, progress)
     gum = gum_stage(prep, mc)
-    dec = decision_stage(prep, sens, gum, parts, extra_sweeps)
+    dec = decision_stage(prep, sens, gum, parts, extra_sweeps, progress)
     study, setpoint, model = prep.study, prep.setpoint, prep.model
     return Result(
         study=study, settings=prep.settings, setpoint=setpoint, inputs=prep.inputs,

@@ -7,12 +7,13 @@ loads; everything past this module works in SI floats.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 
 import pint
 
-from simunc.errors import StudyError
+from simunc.errors import GIVEN_LIMIT, StudyError, plain
 
 
 
@@ -70,12 +71,37 @@ def _quantity(key: str, text: object, expected: str) -> pint.Quantity:
     magnitude, unit = _split(key, text, expected)
     if not _UNIT_TEXT.match(unit):
         raise StudyError(key, text, expected, f"'{unit}' is not a unit")
+    nesting = _nesting(unit)
+    if nesting < 0:
+        raise StudyError(key, text, expected, f"unbalanced parentheses in the unit '{unit}'")
+    if len(unit) > MAX_UNIT_TEXT or nesting > MAX_UNIT_NESTING:
+        raise StudyError(key, text, expected, f"a unit of at most {MAX_UNIT_TEXT} characters and "
+                         f"{MAX_UNIT_NESTING} levels of parentheses")
     try:
         units = ureg.parse_units(unit) if unit else ureg.dimensionless
-    except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError,
-            AttributeError, TypeError, ValueError, AssertionError) as exc:
+        return ureg.Quantity(magnitude, units)
+    except Exception as exc:  # noqa: BLE001 - pint's parser raises many kinds (TokenError,
+        # ZeroDivisionError, RecursionError, DefinitionSyntaxError, ...): all mean a bad unit
         raise StudyError(key, text, expected, f"unknown unit '{unit}'") from exc
-    return ureg.Quantity(magnitude, units)
+
+
+#: Longest unit text and deepest parenthesis nesting the parser is given.
+MAX_UNIT_TEXT, MAX_UNIT_NESTING = 100, 4
+
+
+def _nesting(unit: str) -> int:
+    """Deepest level of parentheses in ``unit``; -1 when they do not balance.
+
+    >>> _nesting("kg/(m*s)"), _nesting("(m"), _nesting("m)("), _nesting("((m))")
+    (1, -1, -1, 2)
+    """
+    depth = deepest = 0
+    for c in unit:
+        depth += (c == "(") - (c == ")")
+        if depth < 0:
+            return -1
+        deepest = max(deepest, depth)
+    return deepest if depth == 0 else -1
 
 
 def parse(key: str, text: object, dimension: str, *, allow_relative: bool = False) -> Parsed:
@@ -108,12 +134,37 @@ def parse(key: str, text: object, dimension: str, *, allow_relative: bool = Fals
     >>> parse("a", "0.05 %", "pressure", allow_relative=True)
     Parsed(value=0.0005, relative=True)
     """
-    dim, si, example = DIMENSIONS[dimension]
+    example = DIMENSIONS[dimension][2]
     noun = "number" if dimension == "dimensionless" else dimension.replace("_", " ")
     expected = f"a {noun} such as {example}"
     if allow_relative:
         expected += " or a percentage of reading such as '0.05 %'"
-    q = _quantity(key, text, expected)
+    try:
+        q = _quantity(key, text, expected)
+    except StudyError as exc:
+        raise _short(exc, text) from None
+    try:
+        out = _to_si(key, text, q, dimension, allow_relative, expected)
+        if not math.isfinite(out.value):
+            raise StudyError(key, text, f"a finite value ({expected})")
+        return out
+    except (ArithmeticError, ValueError, TypeError) as exc:
+        if isinstance(exc, StudyError):
+            raise _short(exc, text) from None
+        # pint conversions of odd units (e.g. 'm**1e9 / m**1e9') can overflow or fail
+        raise StudyError(key, text, expected, "a unit that converts to SI") from exc
+
+
+def _short(exc: StudyError, text: object) -> StudyError:
+    """``exc`` echoing at most :data:`~simunc.errors.GIVEN_LIMIT` characters of the value."""
+    if isinstance(text, str) and exc.given == text and len(text) > GIVEN_LIMIT:
+        return StudyError(exc.key, plain(text, GIVEN_LIMIT), exc.expected, exc.hint)
+    return exc
+
+
+def _to_si(key: str, text: object, q: pint.Quantity, dimension: str, allow_relative: bool,
+           expected: str) -> Parsed:
+    dim, si, _ = DIMENSIONS[dimension]
     unit_name = str(q.units)
     if unit_name in _RELATIVE_UNITS:
         fraction = float(q.to("dimensionless").magnitude)

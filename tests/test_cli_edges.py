@@ -90,15 +90,22 @@ def test_sample_columns_do_not_clash_and_stale_files_go(demo_text, write_study, 
 
 @pytest.mark.slow
 def test_non_physical_verification_sample_is_bad_input_like_the_main_run(demo_text, tmp_path,
-                                                                          capsys):
+                                                                          capsys, monkeypatch):
     # The model chord (200 mm) with u = 50 mm: a negative chord has probability 3.2e-5, so at
     # seed 1 the main run (2000 trials) and the design sample (1000) happen to be physical and
     # only the fresh verification run (200 000 trials) meets such trials. It must end as the
-    # main run would: exit 2, one line naming the inputs, and no report.
+    # main run would: exit 2, one line naming the input at fault, and no report. (`simunc check`
+    # refuses this study already, at the input's 1e-6 quantile; the check is moved to the 1e-3
+    # quantile, 3.1 u = 155 mm, to reach the verification sample.)
+    import simunc.similitude.prepared
+    monkeypatch.setattr(simunc.similitude.prepared, "EXTREME_TAIL", 1e-3)
     text = demo_text.replace('distribution = "rectangular"\nhalf_width = "0.05 mm"',
                              'distribution = "normal"\nstandard_uncertainty = "50 mm"')
     assert text != demo_text
     text = text.replace("seed = 20261201", "seed = 1").replace("trials = 200000", "trials = 2000")
+    # a small Sobol sample and no Shapley sample, whose extremes would meet such trials first
+    text = text.replace("sobol_base_samples = 4096", "sobol_base_samples = 64").replace(
+        "second_order = true", "second_order = true\nshapley = false")
     text += "\n[design]\ntrials = 1000\n"
     path = tmp_path / "study.toml"
     path.write_text(text)
@@ -106,6 +113,6 @@ def test_non_physical_verification_sample_is_bad_input_like_the_main_run(demo_te
     code, io = _run(path, out, capsys)
     assert code == 2
     lines = io.err.strip().splitlines()
-    assert len(lines) == 1 and "uncertain" in lines[0] and "verification trials non-physical" \
-        in lines[0]
+    assert len(lines) == 1 and "'uncertain[6].standard_uncertainty'" in lines[0] \
+        and "verification trials" in lines[0]
     assert not (out / "results.json").exists()

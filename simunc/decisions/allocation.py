@@ -51,12 +51,13 @@ from simunc.decisions.requirements import (
     SCREEN,
     centre_of,
 )
+from simunc.study.planning import MAX_GRADE_COMBINATIONS
 
 if TYPE_CHECKING:
     from simunc.decisions.design import Design
 
 #: Grade combinations the allocation enumerates at most, and design-sample checks at most.
-MAX_COMBINATIONS, MAX_CHECKS = 200_000, 150
+MAX_COMBINATIONS, MAX_CHECKS = MAX_GRADE_COMBINATIONS, 150
 
 
 # ---------------------------------------------------------------------------

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -51,22 +52,26 @@ def _row(fig: Figures, design: Design) -> dict:
 
 
 def sweep(design: Design, key: str, inputs, low: float, high: float, points: int,
-          spacing: Spacing = "linear") -> SweepResult:
+          spacing: Spacing = "linear",
+          on_point: Callable[[int, int], None] | None = None) -> SweepResult:
     """Scale the tolerance of one input (a line) or two (a grid) on the design sample.
 
     Every other input stays as written.  Returns the expanded uncertainty
     (k = 2), the coverage half-length of every matched group, the conformity
-    probabilities and whether each requirement holds, per point.
+    probabilities and whether each requirement holds, per point.  ``on_point(i, n)`` is
+    called after point i of n (progress).
     """
     names = design.names
     idx = [names.index(n) for n in inputs]
     s = sweep_scales(low, high, points, spacing)
     grids = np.meshgrid(*([s] * len(idx)), indexing="ij")
     rows = []
-    for point in zip(*(g.ravel() for g in grids)):
+    for i, point in enumerate(zip(*(g.ravel() for g in grids))):
         scale = design.ones()
         scale[idx] = point
         fig = design.figures(scale)
         rows.append({f"scale: {n}": v for n, v in zip(inputs, point)} | _row(fig, design))
+        if on_point is not None:
+            on_point(i + 1, grids[0].size)
     return SweepResult(key=key, inputs=tuple(inputs), scales=tuple(s for _ in idx),
                        spacing=spacing, table=pd.DataFrame(rows))

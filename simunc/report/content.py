@@ -11,6 +11,7 @@ from simunc import __version__
 from simunc.report import decisions
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
+from simunc.report.text import lit
 from simunc.study.catalogue import describe_output
 
 SAFETY = [
@@ -53,14 +54,14 @@ def _first_to_tighten(result, sp) -> list[str]:
     if not sp.feasible or t is None or not len(t) or not t["controllable"].any():
         return []
     name = t[t["controllable"]].index[0]
-    line = [f"Input to control more tightly first: {name} ({t.loc[name, 'perturbs']})."]
+    line = [f"Input to control more tightly first: {lit(name)} ({lit(t.loc[name, 'perturbs'])})."]
     if result.requirement_checks is not None:
         bad = [c.key for c in result.requirement_checks if not c.met]
         line.append("Requirements at the written tolerances: " + (
-            "all met." if not bad else f"not met: {', '.join(bad)}."))
+            "all met." if not bad else f"not met: {lit(', '.join(bad))}."))
     if result.allocation is not None:
         a = result.allocation
-        line.append(f"No allocation meets the requirements: {a.message}." if a.message else
+        line.append(f"No allocation meets the requirements: {lit(a.message)}." if a.message else
                     f"Allocation meeting every requirement: cost {fmt(a.cost)}; fresh Monte Carlo "
                     f"check {'passed' if a.verified else 'FAILED'} (see the requirements section).")
     return line
@@ -70,25 +71,25 @@ def build(result) -> list[Block]:
     st, sp = result.study, result.setpoint
     fs, fac = st.full_scale, st.facility
     o = sp.outputs
-    b: list[Block] = [Block("heading", st.title, 1)]
+    b: list[Block] = [Block("heading", lit(st.title), 1)]
     if st.description:
-        b.append(Block("paragraph", st.description))
+        b.append(Block("paragraph", lit(st.description)))
 
     verdict = "achievable and matched" if sp.feasible else "not every group matched (see below)"
     conf = result.conformity
     solved = ", ".join(k.replace("_", " ") for k in sp.solve_for) or "nothing"
     b += [Block("heading", "Summary"), Block("bullets", [
-        f"Facility: {fac.name}; working fluid {sp.fluid or fac.gas.name}.",
+        f"Facility: {lit(fac.name)}; working fluid {lit(sp.fluid or fac.gas.name)}.",
         f"Set point ({solved} solved, {sp.method}): {verdict}.",
         _state_line(st, o),
         "Matched groups at the set point: " + "; ".join(
-            f"{band.output} = {o[band.output]:.5g}" for band in st.bands) + ".",
+            f"{lit(band.output)} = {o[band.output]:.5g}" for band in st.bands) + ".",
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
     ] + _first_to_tighten(result, sp)
         + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
             "and the facility limits."] if not sp.feasible else [])
-        + [f"Warning: {w}" for w in result.warnings])]
+        + [f"Warning: {lit(w)}" for w in result.warnings])]
 
     b.append(Block("heading", "Full-scale condition"))
     rows = [("fluid", fs.fluid.name, ""),
@@ -149,7 +150,7 @@ def build(result) -> list[Block]:
             [(a["fluid"], a["feasible"], "; ".join(f"{g} {v:+.3g}" for g, v in a["mismatch"].items()))
              for a in sp.alternatives], columns=["fluid", "feasible", "mismatch (bands)"]))))
     if sp.messages:
-        b.append(Block("bullets", list(sp.messages)))
+        b.append(Block("bullets", [lit(m) for m in sp.messages]))
 
     if result.envelope is not None:
         b.append(Block("figure", "envelope_map.png", caption="Reynolds numbers the facility reaches "
@@ -171,13 +172,13 @@ def build(result) -> list[Block]:
             row[key] = r.outputs[key]
             run_rows.append(row)
         b.append(Block("table", _table(pd.DataFrame(run_rows))))
-        b.append(Block("bullets", list(tp.notes)))
+        b.append(Block("bullets", [lit(n) for n in tp.notes]))
 
     if result.pi_groups:
         b.append(Block("heading", "Dimensional analysis (Buckingham Pi)"))
         da = st.dimensional_analysis
-        b.append(Block("paragraph", "Variables: " + ", ".join(f"{k} [{v}]" for k, v in da.variables.items())
-                       + (f"; repeating: {', '.join(da.repeating)}." if da.repeating else ".")))
+        b.append(Block("paragraph", "Variables: " + ", ".join(f"{lit(k)} [{lit(v)}]" for k, v in da.variables.items())
+                       + (f"; repeating: {lit(', '.join(da.repeating))}." if da.repeating else ".")))
         b.append(Block("table", pd.DataFrame([(g.name, g.formula) for g in result.pi_groups],
                                              columns=["group", "product of powers"])))
 
@@ -197,15 +198,15 @@ def build(result) -> list[Block]:
     fluid = next((f for f in fac.fluids if f.name == sp.fluid), fac.gas)
     stated = ", ".join(f"{k.replace('_', ' ')} {100 * float(v):.3g} %"
                        for k, v in fluid.stated_uncertainty.items())
-    b.append(Block("paragraph", f"Property model ({fluid.name}): {fluid.description}. Stated "
+    b.append(Block("paragraph", f"Property model ({lit(fluid.name)}): {fluid.description}. Stated "
                    f"relative standard uncertainty: {stated}. Include it with an input "
                    "perturbs = \"viscosity_model\" (or \"density_model\") and "
                    "standard_uncertainty = \"stated\"."))
-    scopes = [f"{i.name}: {_property_scope(i.targets)}" for i in result.inputs
+    scopes = [f"{lit(i.name)}: {_property_scope(i.targets)}" for i in result.inputs
               if _property_scope(i.targets)]
     if scopes:
         b.append(Block("paragraph", "Property-model inputs act on: " + "; ".join(scopes) + "."))
-    corrected = [f"{i.name} ({i.spec.text.split(', correction ')[-1]})" for i in result.inputs
+    corrected = [f"{lit(i.name)} ({lit(i.spec.text.split(', correction ')[-1])})" for i in result.inputs
                  if i.spec.correction]
     if corrected:
         b.append(Block("paragraph", "Known corrections applied (JCGM 100 3.2.4), in the set point "
@@ -272,7 +273,7 @@ def build(result) -> list[Block]:
             b.append(Block("table", _table(result.components.reset_index())))
         for k in keys[:2]:
             bud = result.lpu.budget(k).reset_index()
-            b.append(Block("paragraph", f"Uncertainty budget of **{k}** (LPU):"))
+            b.append(Block("paragraph", f"Uncertainty budget of **{lit(k)}** (LPU):"))
             b.append(Block("table", _table(bud[["term", "sensitivity", "standard_uncertainty",
                                                 "contribution", "share_percent"]])))
 

@@ -6,6 +6,7 @@ import pandas as pd
 
 from simunc.decisions.requirements import LOOSEN
 from simunc.report.blocks import Block, fmt, table
+from simunc.report.text import lit
 
 
 def sensitivity_blocks(result) -> list[Block]:
@@ -33,25 +34,25 @@ def sensitivity_blocks(result) -> list[Block]:
             corr = bud[bud["kind"] == "correlation"]
         else:
             corr = pd.DataFrame()
-        b.append(Block("paragraph", f"**{out}**"))
+        b.append(Block("paragraph", f"**{lit(out)}**"))
         b.append(Block("table", table(t.reset_index())))
         if len(corr):
             b.append(Block("paragraph", "Correlation terms of the budget: " + "; ".join(
-                f"{k}: {fmt(v)} %" for k, v in corr["share_percent"].items()) + "."))
+                f"{lit(k)}: {fmt(v)} %" for k, v in corr["share_percent"].items()) + "."))
     b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups."))
     if sr is not None and sr.second_order is not None:
         b.append(Block("paragraph", "Second-order indices S2 (interactions of two inputs):"))
         for out, t in sr.second_order.items():
             t = t.reset_index()
             t = t.reindex(t["S2"].abs().sort_values(ascending=False).index).head(10)
-            b.append(Block("paragraph", f"**{out}** (largest ten)"))
+            b.append(Block("paragraph", f"**{lit(out)}** (largest ten)"))
             b.append(Block("table", table(t)))
     if sr is not None and sr.groups is not None:
         b.append(Block("paragraph", "Grouped indices (closed first-order and total index of each "
-                       "group): " + "; ".join(f"{g} = {', '.join(m)}" for g, m in
+                       "group): " + "; ".join(f"{lit(g)} = {lit(', '.join(m))}" for g, m in
                                                sr.group_members.items() if len(m) > 1) + "."))
         for out, t in sr.groups.items():
-            b.append(Block("paragraph", f"**{out}**"))
+            b.append(Block("paragraph", f"**{lit(out)}**"))
             b.append(Block("table", table(t.reset_index())))
     if result.shapley is not None:
         b.append(Block("paragraph", "Shapley effects under the Gaussian copula of the study "
@@ -60,7 +61,7 @@ def sensitivity_blocks(result) -> list[Block]:
                        "is the share removed if the input were known exactly, total_full = "
                        "E[Var(y | x_~i)] / Var(y)."))
         for out, t in result.shapley.items():
-            b.append(Block("paragraph", f"**{out}**"))
+            b.append(Block("paragraph", f"**{lit(out)}**"))
             b.append(Block("table", table(t.reset_index())))
     return b
 
@@ -89,14 +90,14 @@ def tightening_blocks(result) -> list[Block]:
         worse = [n for n in t.index if any(t.loc[n, f"delta_U_k2_{band.output}"] > 0
                                           for band in st.bands)]
         if worse and st.correlation is not None:
-            b.append(Block("paragraph", "Halving the tolerance of " + ", ".join(worse) + " alone "
+            b.append(Block("paragraph", "Halving the tolerance of " + lit(", ".join(worse)) + " alone "
                            "raises U of some group: correlated errors partly cancel (for instance "
                            "two transducers sharing a calibration standard, whose errors cancel in "
                            "a pressure ratio), and tightening one of them alone breaks that "
                            "cancellation. Tighten such inputs together."))
         top = t[t["controllable"]]
         if len(top):
-            b.append(Block("paragraph", f"Control more tightly first: **{top.index[0]}** "
+            b.append(Block("paragraph", f"Control more tightly first: **{lit(top.index[0])}** "
                            f"(halving its tolerance cuts U by {fmt(top.iloc[0]['gain_bands'])} of "
                            "a band half-width)."))
         b.append(Block("figure", "tightening.png", caption="Drop of the expanded uncertainty "
@@ -149,7 +150,7 @@ def requirement_blocks(result) -> list[Block]:
         return b
     b.append(Block("heading", "Allocation at least cost", 3))
     if a.message:
-        b.append(Block("paragraph", f"**No allocation meets the requirements:** {a.message}."))
+        b.append(Block("paragraph", f"**No allocation meets the requirements:** {lit(a.message)}."))
     else:
         how = ("continuous costs, minimised under a Gaussian surrogate of the requirements "
                f"(GUM sensitivities, calibrated on the design sample; rounds: {a.rounds})"
@@ -158,7 +159,7 @@ def requirement_blocks(result) -> list[Block]:
         extra = f" (as written: {fmt(a.cost_written)})" if a.cost_written is not None else ""
         b.append(Block("paragraph", f"Method: {how}. Total cost {fmt(a.cost)}{extra}."))
         if a.note:
-            b.append(Block("paragraph", f"Note: {a.note}."))
+            b.append(Block("paragraph", f"Note: {lit(a.note)}."))
         b.append(Block("paragraph", f"Verification by a fresh Monte Carlo run ({a.verify_trials} "
                        f"trials, independent seed stream): **{'every requirement met' if a.verified else 'NOT every requirement met'}**. "
                        f"With every allocated tolerance loosened by {100 * (LOOSEN - 1):.0f} %: "
@@ -181,7 +182,7 @@ def requirement_blocks(result) -> list[Block]:
             "widens the excursions of the facility about its set point: they must stay inside "
             "the facility's rated envelope and the model's load rating, under the facility's "
             "safety rules and licensed engineering practice, whatever this allocation allows."]
-            + [f"Caution: {m}. Keep that control tighter than allocated, or move the set "
+            + [f"Caution: {lit(m)}. Keep that control tighter than allocated, or move the set "
                "point." for m in a.excursions]))
     return b
 
@@ -191,7 +192,7 @@ def correlated_scaling_blocks(result) -> list[Block]:
     if not result.correlated_scaling:
         return []
     return [Block("heading", "Scaling correlated inputs", 3),
-            Block("bullets", [f"{n}." for n in result.correlated_scaling])]
+            Block("bullets", [f"{lit(n)}." for n in result.correlated_scaling])]
 
 
 def sweep_blocks(result) -> list[Block]:
@@ -203,9 +204,9 @@ def sweep_blocks(result) -> list[Block]:
                    f"the same {result.design_trials} trials (common random numbers), so the curves "
                    "are smooth and their differences carry little Monte Carlo noise."))
     for i, sw in enumerate(result.sweeps, start=1):
-        b.append(Block("paragraph", f"**{sw.key}**: {' and '.join(sw.inputs)}, scale "
+        b.append(Block("paragraph", f"**{lit(sw.key)}**: {lit(' and '.join(sw.inputs))}, scale "
                        f"{fmt(float(sw.scales[0][0]))} to {fmt(float(sw.scales[0][-1]))}."))
-        b.append(Block("figure", f"sweep_{i}.png", caption=f"Sweep {i}: " + ", ".join(sw.inputs)))
+        b.append(Block("figure", f"sweep_{i}.png", caption=f"Sweep {i}: " + lit(", ".join(sw.inputs))))
         if not sw.table["physical"].all():
             b.append(Block("paragraph", f"{int((~sw.table['physical']).sum())} points give "
                            "non-physical or sonic trials (outside the similitude model): their "

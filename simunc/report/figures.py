@@ -1,7 +1,13 @@
-"""Figures of a run, rendered in memory to PNG bytes (matplotlib, Agg backend)."""
+"""Figures of a run, rendered in memory to PNG bytes (matplotlib, Agg backend).
+
+Study text (input and group names) is drawn as written: folded to one line without control
+characters (:func:`simunc.errors.plain`) and with matplotlib's mathtext and TeX off
+(:func:`_literal_text`), so a ``$`` in a name is a dollar sign, not a formula to parse.
+"""
 
 from __future__ import annotations
 
+import functools
 import io
 
 import matplotlib
@@ -9,6 +15,20 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+
+from simunc.errors import plain  # noqa: E402
+
+#: Text drawn as written: no mathtext between "$" signs, no TeX (a user's matplotlibrc may set it).
+LITERAL_TEXT = {"text.parse_math": False, "text.usetex": False}
+
+
+def _literal_text(draw):
+    """Draw a figure with :data:`LITERAL_TEXT` (text artists read it when made and drawn)."""
+    @functools.wraps(draw)
+    def wrapped(*args, **kwargs):
+        with matplotlib.rc_context(LITERAL_TEXT):
+            return draw(*args, **kwargs)
+    return wrapped
 
 
 def _png(fig) -> bytes:
@@ -18,6 +38,7 @@ def _png(fig) -> bytes:
     return buf.getvalue()
 
 
+@_literal_text
 def reynolds_histogram(result) -> bytes:
     """Histogram of the Reynolds-number ratio with its band and coverage interval."""
     y = np.asarray(result.preview)
@@ -41,6 +62,7 @@ def reynolds_histogram(result) -> bytes:
     return _png(fig)
 
 
+@_literal_text
 def sobol_bars(result) -> bytes:
     """Grouped bars of first-order and total Sobol indices per matched output."""
     tables = result.sobol
@@ -54,15 +76,16 @@ def sobol_bars(result) -> bytes:
         ax.barh(ypos + 0.2, t["ST"].clip(lower=0), 0.4, xerr=t["ST_conf"], label="total ST",
                 color="#e1a33b")
         if i == 0:
-            ax.set_yticks(ypos, list(t.index), fontsize=8)
+            ax.set_yticks(ypos, [plain(n) for n in t.index], fontsize=8)
             ax.invert_yaxis()
         ax.set_xlim(0, 1.05)
         ax.set_xlabel("Sobol index")
-        ax.set_title(out)
+        ax.set_title(plain(out))
     axes[0][-1].legend(fontsize=8, loc="best")
     return _png(fig)
 
 
+@_literal_text
 def envelope_map(result) -> bytes:
     """Reynolds number against Mach (or Froude) number: facility region, target and set point."""
     env = result.envelope
@@ -89,6 +112,7 @@ def envelope_map(result) -> bytes:
     return _png(fig)
 
 
+@_literal_text
 def tightening_bars(result) -> bytes:
     """Drop of U (k = 2) over the tolerance half-width per group when one tolerance is halved."""
     t = result.tightening
@@ -98,8 +122,8 @@ def tightening_bars(result) -> bytes:
     width = 0.8 / max(len(bands), 1)
     for k, band in enumerate(bands):
         gain = -t[f"delta_U_k2_{band.output}"].to_numpy(dtype=float) / band.tolerance
-        ax.barh(ypos + (k - (len(bands) - 1) / 2) * width, gain, width, label=band.group)
-    labels = [n if c else f"{n} (condition)" for n, c in zip(t.index, t["controllable"])]
+        ax.barh(ypos + (k - (len(bands) - 1) / 2) * width, gain, width, label=plain(band.group))
+    labels = [plain(n) if c else f"{plain(n)} (condition)" for n, c in zip(t.index, t["controllable"])]
     ax.set_yticks(ypos, labels, fontsize=8)
     ax.invert_yaxis()
     ax.set_xlabel("drop of U (k = 2) when the tolerance is halved / band half-width")
@@ -109,19 +133,21 @@ def tightening_bars(result) -> bytes:
     return _png(fig)
 
 
+@_literal_text
 def sweep_plot(result, sw) -> bytes:
     """1-D: U/tolerance and conformity against the scale; 2-D: contours over the two scales."""
     bands = result.study.bands
     tab = sw.table
     log = sw.spacing == "log"
+    names = [plain(n) for n in sw.inputs]
     if len(sw.inputs) == 1:
         s = tab[f"scale: {sw.inputs[0]}"].to_numpy(dtype=float)
         fig, ax = plt.subplots(figsize=(7.0, 4.6))
         for band in bands:
             ax.plot(s, tab[f"U_k2_{band.output}"] / band.tolerance, marker="o", ms=3,
-                    label=f"U (k = 2) of {band.output} / tolerance")
+                    label=f"U (k = 2) of {plain(band.output)} / tolerance")
         ax.axvline(1.0, color="grey", lw=0.8, ls=":")
-        ax.set_xlabel(f"tolerance scale of {sw.inputs[0]}")
+        ax.set_xlabel(f"tolerance scale of {names[0]}")
         ax.set_ylabel("U (k = 2) / band half-width")
         ax.grid(True, alpha=0.3)
         ax2 = ax.twinx()
@@ -133,12 +159,12 @@ def sweep_plot(result, sw) -> bytes:
         h2, l2 = ax2.get_legend_handles_labels()
         ax.legend(h1 + h2, l1 + l2, fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.16),
                   ncol=2, frameon=False)
-        ax.set_title(f"Tolerance sweep: {sw.inputs[0]}")
+        ax.set_title(f"Tolerance sweep: {names[0]}")
         return _png(fig)
     a, b = sw.scales
     shape = (len(a), len(b))
     panels = [("conformity_all", 1.0, "P(all groups in band)")] + [
-        (f"U_k2_{band.output}", band.tolerance, f"U (k = 2) of {band.output} / tolerance")
+        (f"U_k2_{band.output}", band.tolerance, f"U (k = 2) of {plain(band.output)} / tolerance")
         for band in bands]
     fig, axes = plt.subplots(1, len(panels), figsize=(5.4 * len(panels), 4.4), squeeze=False)
     for ax, (col, div, title) in zip(axes[0], panels):
@@ -155,8 +181,8 @@ def sweep_plot(result, sw) -> bytes:
         if log:
             ax.set_xscale("log")
             ax.set_yscale("log")
-        ax.set_xlabel(f"tolerance scale of {sw.inputs[1]}")
-        ax.set_ylabel(f"tolerance scale of {sw.inputs[0]}")
+        ax.set_xlabel(f"tolerance scale of {names[1]}")
+        ax.set_ylabel(f"tolerance scale of {names[0]}")
         ax.set_title(title, fontsize=9)
     return _png(fig)
 

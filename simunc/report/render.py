@@ -8,6 +8,7 @@ import re
 from typing import TYPE_CHECKING, cast
 
 from simunc.report.content import Block
+from simunc.report.text import md, md_inline, spans, unmarked
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -23,42 +24,53 @@ td{font-variant-numeric:tabular-nums}img{max-width:100%}figcaption{font-size:.85
 
 
 def markdown(blocks: list[Block]) -> str:
+    """CommonMark with GitHub tables; study text renders literally (:mod:`simunc.report.text`)."""
     out = []
     for b in blocks:
         if b.kind == "heading":
-            out.append("#" * b.level + " " + str(b.content))
+            out.append("#" * b.level + " " + md(b.content))
         elif b.kind == "paragraph":
-            out.append(str(b.content))
+            out.append(md(b.content))
         elif b.kind == "bullets":
-            out.append("\n".join(f"- {x}" for x in b.content))
+            out.append("\n".join(f"- {md(x)}" for x in b.content))
         elif b.kind == "table":
-            cells = cast("pd.DataFrame", b.content).map(lambda v: str(v).replace("|", "\\|"))
+            df = cast("pd.DataFrame", b.content)
+            cells = df.map(lambda v: md_inline(unmarked(v)))
+            cells.columns = [md_inline(unmarked(c)) for c in df.columns]
             out.append(cells.to_markdown(index=False))
         elif b.kind == "figure":
-            out.append(f"![{b.caption}]({b.content})\n\n*{b.caption}*")
+            out.append(f"![{md(b.caption)}]({b.content})\n\n*{md(b.caption)}*")
     return "\n\n".join(out) + "\n"
 
 
-def _inline(text: str) -> str:
-    return re.sub(r"\*\*(.+?)\*\*", r"<strong>\1</strong>", html.escape(text))
+def _inline(text: object) -> str:
+    """HTML of a block text: literal spans escaped (their ``*`` as a character reference, so
+    they mark nothing), **bold** of the report's own text kept."""
+    escaped = "".join(html.escape(p).replace("*", "&#42;") if literal else html.escape(p)
+                      for literal, p in spans(text))
+    return re.sub(r"\*\*(.+?)\*\*", r"<strong>\1</strong>", escaped)
 
 
 def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
-    title = next((str(b.content) for b in blocks if b.kind == "heading"), "simunc report")
+    title = next((unmarked(b.content) for b in blocks if b.kind == "heading"), "simunc report")
     out = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
            f"<title>{html.escape(title)}</title><style>{_CSS}</style></head><body>"]
     for b in blocks:
         if b.kind == "heading":
-            out.append(f"<h{b.level}>{html.escape(str(b.content))}</h{b.level}>")
+            out.append(f"<h{b.level}>{_inline(b.content)}</h{b.level}>")
         elif b.kind == "paragraph":
             out.append(f"<p>{_inline(str(b.content))}</p>")
         elif b.kind == "bullets":
             out.append("<ul>" + "".join(f"<li>{_inline(str(x))}</li>" for x in b.content) + "</ul>")
         elif b.kind == "table":
-            out.append(cast("pd.DataFrame", b.content).to_html(index=False, border=0, escape=True))
+            df = cast("pd.DataFrame", b.content)
+            cells = df.map(unmarked)
+            cells.columns = [unmarked(c) for c in df.columns]
+            out.append(cells.to_html(index=False, border=0, escape=True))
         elif b.kind == "figure" and b.content in figures:
             data = base64.b64encode(figures[cast(str, b.content)]).decode("ascii")
-            out.append(f'<figure><img alt="{html.escape(b.caption)}" src="data:image/png;base64,{data}">'
-                       f"<figcaption>{html.escape(b.caption)}</figcaption></figure>")
+            out.append(f'<figure><img alt="{html.escape(unmarked(b.caption))}" '
+                       f'src="data:image/png;base64,{data}">'
+                       f"<figcaption>{_inline(b.caption)}</figcaption></figure>")
     out.append("</body></html>")
     return "\n".join(out) + "\n"

@@ -275,6 +275,39 @@ class SimilitudeModel:
         return {k: np.broadcast_to(v, shape) for k, v in arrays.items()}
 
 
+#: Outputs that a physical trial has above zero.
+POSITIVE_OUTPUTS = ("model_length", "static_pressure", "static_temperature", "density",
+                    "viscosity", "speed")
+
+
+def bad_trials(y, model, limit: int = 16) -> np.ndarray:
+    """Indices of up to ``limit`` trials that :func:`trial_problems` objects to (empty when
+    none): those with non-finite or non-positive values, else (the fluid model checks a whole
+    array at once) one state outside the fluid model, found by bisection."""
+    n = len(next(iter(y.values())))
+    bad = np.zeros(n, dtype=bool)
+    with np.errstate(invalid="ignore"):
+        for k, v in y.items():
+            v = np.asarray(v)
+            bad |= ~np.isfinite(v)
+            if k in POSITIVE_OUTPUTS:
+                bad |= v <= 0.0
+    found = np.flatnonzero(bad)
+    if found.size or model is None:
+        return found[:limit]
+    p, t = np.asarray(y["static_pressure"]), np.asarray(y["static_temperature"])
+    lo, hi = 0, n
+    if not model.fluid.check_state(p, t):
+        return found
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        if model.fluid.check_state(p[lo:mid], t[lo:mid]):
+            hi = mid
+        else:
+            lo = mid
+    return np.array([lo])
+
+
 def trial_problems(y, model) -> list[str]:
     """Why some trials are not physical states (empty when all are).
 
@@ -287,8 +320,7 @@ def trial_problems(y, model) -> list[str]:
         bad |= ~np.isfinite(v)
     reasons = [f"{np.count_nonzero(bad)} with non-finite values (e.g. a static pressure above "
                "the stagnation pressure)"] if bad.any() else []
-    for key in ("model_length", "static_pressure", "static_temperature", "density",
-                "viscosity", "speed"):
+    for key in POSITIVE_OUTPUTS:
         if key in y:
             neg = np.asarray(y[key]) <= 0.0
             if neg.any():

@@ -16,7 +16,7 @@ FACILITY_KEYS = ("name", "gas", "fluid", "stagnation_temperature", "stagnation_t
                   "temperature", "temperature_range", "max_model_reference_length",
                   "test_section_area", "max_blockage", "max_dynamic_pressure", "humidity", "depth")
 HUMIDITY_KEYS = ("dew_point", "relative_humidity", "at_pressure", "at_temperature")
-MODEL_KEYS = ("scale", "reference_length", "frequency")
+MODEL_KEYS = ("scale", "reference_length", "frequency", "enlarged")
 BAND_KEYS = ("tolerance", "priority", "solve")
 CUSTOM_KEYS = ("powers", "tolerance", "priority", "solve")
 SIZE_KEYS = ("standard_uncertainty", "expanded_uncertainty", "half_width", "accuracy",
@@ -44,7 +44,7 @@ COST_KEYS = ("at_written", "exponent")
 GRADE_KEYS = ("expanded_uncertainty", "price", "name")
 SWEEP_KEYS = ("inputs", "scale", "points", "spacing")
 SENSITIVITY_KEYS = ("second_order", "groups", "shapley")
-DESIGN_KEYS = ("trials", "verify_trials", "largest_scale")
+DESIGN_KEYS = ("trials", "verify_trials", "largest_scale", "max_sweep_evaluations")
 
 
 #: Every table of a study -> the keys its reader accepts ("match.<group>": a group's band table,

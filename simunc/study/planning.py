@@ -169,13 +169,53 @@ def sweep(data: Any, index: int, names: list[str]) -> Sweep:
                 f"inputs[{j}]", {k: k for k in names})
     lo, hi = scale_range(t.key("scale"), t.data.get("scale", [0.1, 3.0]))
     points = t.integer("points", 15 if len(chosen) == 1 else 11, 3)
-    if points > 200:
-        raise StudyError(t.key("points"), points, "at most 200 points per input")
+    if points > MAX_SWEEP_POINTS:
+        raise StudyError(t.key("points"), points, f"at most {MAX_SWEEP_POINTS} points per input")
     spacing = cast(Spacing, t.choice("spacing", {"linear": "linear", "log": "log"},
                                      default="linear"))
     if spacing == "log" and lo <= 0.0:
         raise StudyError(t.key("scale"), [lo, hi], "a low scale above 0 with spacing = 'log'")
     return Sweep(t.prefix, tuple(chosen), (lo, hi), points, spacing)
+
+
+#: Points per swept input at most (a 2-D sweep evaluates the square of it).
+MAX_SWEEP_POINTS = 101
+#: Grade combinations the allocation may enumerate (it costs every one).
+MAX_GRADE_COMBINATIONS = 200_000
+
+
+#: What one sweep point costs besides its trials, in trial evaluations (the figures and the
+#: requirement checks of a point take about as long as 50 000 trials of the model).
+POINT_COST = 50_000
+
+
+def sweep_evaluations(sw: Sweep, trials: int) -> int:
+    """Model evaluations a sweep is counted at: its points (scale 1 may be added) to the power
+    of its inputs, times the design trials plus :data:`POINT_COST`.
+
+    >>> sweep_evaluations(Sweep("sweep[0]", ("a", "b"), (0.1, 3.0), 11), 1000)
+    7344000
+    """
+    return (sw.points + 1) ** len(sw.inputs) * (int(trials) + POINT_COST)
+
+
+def check_sweep_budget(sweeps, settings: DesignSettings, option_key: str = "--points") -> None:
+    """Refuse sweeps that together take more than ``design.max_sweep_evaluations`` model
+    evaluations, naming the sweep that passes the limit (or ``option_key`` for a sweep given
+    on the command line)."""
+    total = 0
+    for sw in sweeps:
+        n = sweep_evaluations(sw, settings.trials)
+        total += n
+        if total > settings.max_sweep_evaluations:
+            key = option_key if sw.key.startswith("--") else f"{sw.key}.points"
+            raise StudyError(key, f"{sw.points} points per input over {len(sw.inputs)} input"
+                             f"{'s' if len(sw.inputs) > 1 else ''} (with design.trials = "
+                             f"{settings.trials} and the sweeps before it: {total:,} model "
+                             "evaluations, each point counted as its trials + 50,000)", f"at most design.max_sweep_evaluations = "
+                             f"{settings.max_sweep_evaluations:,} evaluations in all sweeps",
+                             "use fewer points or sweeps, "
+                             "lower design.trials, or raise design.max_sweep_evaluations")
 
 
 def scale_range(key: str, raw: Any) -> tuple[float, float]:
@@ -223,4 +263,5 @@ def design(data: Any) -> DesignSettings:
     largest = t.number("largest_scale", default=100.0, low=1.0, high=1e4, low_open=True,
                        what="a tolerance scale above 1 (how far the solver may loosen an input)")
     return DesignSettings(t.integer("trials", 50_000, 1000),
-                          t.integer("verify_trials", 200_000, 1000), largest)
+                          t.integer("verify_trials", 200_000, 1000), largest,
+                          t.integer("max_sweep_evaluations", 200_000_000, 1000))

@@ -14,8 +14,10 @@ import tomllib
 from pathlib import Path
 from typing import Any, cast
 
+import numpy as np
+
 from simunc.constants import STANDARD_GRAVITY, STANDARD_PRESSURE
-from simunc.errors import StudyError
+from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.study import planning
@@ -278,7 +280,8 @@ def _custom_group(t: Table, name: str, fs: FullScale) -> tuple[CustomGroup, Band
 def _match(data: Any, fs: FullScale, kind: str) -> tuple[tuple, tuple, tuple[str, ...]]:
     allowed = ("solve_for", "custom") + tuple(GROUPS)
     match = Table(data, "match", allowed)
-    solve_for = match.names("solve_for", ("stagnation_pressure",) if kind == "gas" else ("speed",))
+    solve_for = tuple(n.strip() for n in match.names(
+        "solve_for", ("stagnation_pressure",) if kind == "gas" else ("speed",)))
     names = SOLVE_NAMES[kind]
     if len(set(solve_for)) != len(solve_for):
         raise StudyError("match.solve_for", list(solve_for), "each quantity once")
@@ -291,6 +294,9 @@ def _match(data: Any, fs: FullScale, kind: str) -> tuple[tuple, tuple, tuple[str
         if match.has(g):
             bands.append(_band(Table(match.data[g], match.key(g), BAND_KEYS), g, fs))
     if match.has("custom"):
+        if not isinstance(match.data["custom"], dict):
+            raise StudyError(match.key("custom"), match.data["custom"], "a table of user groups, "
+                             "e.g. [match.custom.my_group] with powers and tolerance")
         ct = Table(match.data["custom"], match.key("custom"), tuple(match.data["custom"]))
         for name in ct.data:
             cg, band = _custom_group(Table(ct.data[name], ct.key(name), CUSTOM_KEYS), name, fs)
@@ -388,6 +394,15 @@ def _dimensional(data: Any) -> DimensionalAnalysis:
 
 def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     """Validate a study already read from TOML into a dict and convert it to SI."""
+    try:
+        with np.errstate(all="ignore"):  # a value outside a formula's range is refused, not warned
+            return _parse_study(data, path, sha256)
+    except RecursionError as exc:
+        raise StudyError("(file)", "values nested too deep to check",
+                         "a study whose values are nested a few levels deep") from exc
+
+
+def _parse_study(data: dict, path: str, sha256: str) -> Study:
     root = Table(data, "", ROOT_KEYS)
     fs = _full_scale(Table(root.require("full_scale", "a [full_scale] table"), "full_scale",
                            FULL_SCALE_KEYS))
@@ -408,6 +423,11 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     scale = model.number("scale", low=0.0, low_open=True, what="a scale above 0") \
         if size == "scale" else None
     ref_len = model.quantity("reference_length", "length") if size == "reference_length" else None
+    enlarged = model.flag("enlarged", False)
+    if (scale or (ref_len or 0.0) / fs.reference_length) > 1.0 and not enlarged:
+        raise StudyError(model.key(size or "scale"), model.data[size or "scale"],
+                         "a model no larger than full scale (scale <= 1, e.g. 0.0625 for 1:16)",
+                         "for a deliberately enlarged model set model.enlarged = true")
     freq = model.optional_quantity("frequency", "frequency")
     unknowns = _unknowns(fac, solve_for, bands, size, freq, fs, ft, model)
 
@@ -418,7 +438,8 @@ def parse_study(data: dict, path: str = "", sha256: str = "") -> Study:
     names = [i.name for i in inputs]
     for i, n in enumerate(names):
         if names.index(n) != i:
-            raise StudyError(f"uncertain[{i}].name", repr(n), "a name not used by another input")
+            raise StudyError(f"uncertain[{i}].name", repr(plain(n, GIVEN_LIMIT)),
+                             "a name not used by another input")
     if (fac.max_blockage is not None) != (fs.frontal_area is not None):
         if fs.frontal_area is None:
             Table(data["full_scale"], "full_scale", FULL_SCALE_KEYS).require(
@@ -499,6 +520,17 @@ def _decisions(data: dict, bands, inputs, formed: set[str]) -> tuple:
     sens = planning.sensitivity(data["sensitivity"], names) if "sensitivity" in data \
         else SensitivitySettings()
     design = planning.design(data["design"]) if "design" in data else DesignSettings()
+    planning.check_sweep_budget(sweeps, design)
+    combinations = 1
+    for j, spec in enumerate(inputs):
+        if reqs and spec.cost is not None and spec.cost.kind == "grades":
+            combinations *= len(spec.cost.grades)
+            if combinations > planning.MAX_GRADE_COMBINATIONS:
+                raise StudyError(f"uncertain[{j}].grades", f"{len(spec.cost.grades)} grades, "
+                                 f"making {combinations:.3g} combinations with the grades of the "
+                                 "inputs before it", f"at most {planning.MAX_GRADE_COMBINATIONS} "
+                                 "grade combinations over all inputs (the allocation costs each)",
+                                 "offer fewer grades")
     costed = [(j, spec.cost.kind) for j, spec in enumerate(inputs) if spec.cost is not None]
     if len({k for _, k in costed}) > 1:
         j = next(j for j, k in costed if k != costed[0][1])
@@ -526,10 +558,20 @@ def load_study(path: str | Path) -> Study:
         blob = p.read_bytes()
     except OSError as exc:
         raise StudyError("(file)", str(p), "a readable study file", exc.strerror or "") from exc
+    if len(blob) > MAX_STUDY_BYTES:
+        raise StudyError("(file)", f"{p.name}: {len(blob)} bytes", f"a study file of at most "
+                         f"{MAX_STUDY_BYTES // 1_000_000} MB")
     try:
         data = tomllib.loads(blob.decode("utf-8"))
     except UnicodeDecodeError as exc:
         raise StudyError("(file)", str(p), "UTF-8 text") from exc
     except tomllib.TOMLDecodeError as exc:
         raise StudyError("(file)", f"{p.name}: {exc}", "valid TOML") from exc
+    except RecursionError as exc:
+        raise StudyError("(file)", f"{p.name}: arrays or tables nested too deep to read",
+                         "valid TOML nested a few levels deep") from exc
     return parse_study(data, str(p), hashlib.sha256(blob).hexdigest())
+
+
+#: Largest study file read (a study is a few kilobytes).
+MAX_STUDY_BYTES = 10_000_000

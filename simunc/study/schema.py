@@ -141,6 +141,8 @@ class DesignSettings:
     trials: int = 50_000
     verify_trials: int = 200_000
     largest_scale: float = 100.0
+    #: Model evaluations (sweep points x design trials) all sweeps of a run may take together.
+    max_sweep_evaluations: int = 200_000_000
 
 
 @dataclass(frozen=True)

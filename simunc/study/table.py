@@ -11,10 +11,13 @@ import difflib
 import math
 from typing import Any, TypeVar, overload
 
-from simunc.errors import StudyError
+from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.units import parse, to_si
 
 _V = TypeVar("_V")
+
+#: Longest length a study may give [m] (full-scale and model lengths, depths, altitudes).
+MAX_LENGTH = 1.0e6
 _S = TypeVar("_S", bound=str)
 
 
@@ -31,7 +34,8 @@ class Table:
                 close = difflib.get_close_matches(key, allowed, n=1, cutoff=0.5)
                 hint = f"did you mean '{self.key(close[0])}'?" if close else (
                     "valid keys: " + ", ".join(allowed))
-                raise StudyError(self.key(key), "an unknown key", "one of the documented keys", hint)
+                raise StudyError(self.key(plain(key, GIVEN_LIMIT)), "an unknown key",
+                                 "one of the documented keys", hint)
 
     def key(self, name: str) -> str:
         return f"{self.prefix}.{name}" if self.prefix else name
@@ -52,6 +56,9 @@ class Table:
         raw = self.require(name, why)
         value = to_si(self.key(name), raw, dimension)
         check_finite(self.key(name), raw, value)
+        if dimension == "length" and abs(value) > MAX_LENGTH:
+            raise StudyError(self.key(name), raw, f"a length of at most {MAX_LENGTH / 1000:g} km "
+                             "(a larger one leaves the similitude model's range)")
         if positive and value <= 0.0:
             raise StudyError(self.key(name), raw, f"a {dimension.replace('_', ' ')} greater than zero")
         return value
@@ -98,7 +105,8 @@ class Table:
         raw = self.text(name, default)
         if raw not in options:
             close = difflib.get_close_matches(raw, list(options), n=1, cutoff=0.5)
-            raise StudyError(self.key(name), repr(raw), "one of " + ", ".join(repr(o) for o in options),
+            raise StudyError(self.key(name), repr(plain(raw, GIVEN_LIMIT)),
+                             "one of " + ", ".join(repr(o) for o in options),
                              f"did you mean {close[0]!r}?" if close else "")
         return options[raw] if isinstance(options, dict) else raw
 

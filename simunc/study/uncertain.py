@@ -15,7 +15,7 @@ from typing import Any, cast
 
 import numpy as np
 
-from simunc.errors import StudyError
+from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.physics.fluids import Fluid
 from simunc.study import planning
 from simunc.study.catalogue import (
@@ -393,7 +393,8 @@ def read_correlations(data: Any, names: list[str]) -> Correlation | None:
         for nm in (a, b):
             if nm not in names:
                 close = difflib.get_close_matches(nm, names, n=1, cutoff=0.5)
-                raise StudyError(key, repr(nm), "the name of an [[uncertain]] input" + (
+                raise StudyError(key, repr(plain(nm, GIVEN_LIMIT)), "the name of an [[uncertain]] "
+                                 "input" + (
                     "" if names else " (the study has none)"),
                     f"did you mean {close[0]!r}?" if close else "")
         if a == b:
@@ -416,8 +417,8 @@ def read_correlations(data: Any, names: list[str]) -> Correlation | None:
     try:
         corr = Correlation(tuple(names), matrix)
     except ValueError as exc:  # entries are checked above: only the eigenvalues can fail
-        raise StudyError("correlations", f"pairs giving a matrix that is not positive "
-                         f"semi-definite ({exc})", expected) from exc
+        raise StudyError("correlations", "pairs giving a matrix that is not positive "
+                         "semi-definite", expected, str(exc)) from exc
     if not corr.definite:
         raise StudyError("correlations", f"pairs giving a matrix with smallest eigenvalue "
                          f"{corr.smallest_eigenvalue:.3g}", expected)

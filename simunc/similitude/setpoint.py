@@ -270,8 +270,7 @@ class _Problem:
         z = np.asarray(z, dtype=float)
         key = z.tobytes()
         if self._last is None or self._last[0] != key:
-            pts = np.vstack([z, z + self.STEP * np.eye(len(z)) * np.where(
-                z + self.STEP <= self.hi, 1.0, -1.0)])
+            pts = np.vstack([z, z + np.diag(self._steps(z))])
             out = self.model(self.state(pts))
             n = len(pts)
             res = np.empty((n, len(self.bands)))

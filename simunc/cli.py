@@ -105,6 +105,13 @@ def _check(args) -> int:
           f"{o['model_length']:.6g} m; {groups}; {'feasible' if sp.feasible else 'NOT feasible'}")
     for m in sp.messages:
         print("  " + plain(m))
+    if study.measurement is not None and study.measurement.capacity:
+        from simunc.decisions.balance import utilisation_rows
+
+        print(f"balance utilisation ({plain(study.measurement.balance)}) at the set point: " + "; ".join(
+            f"{r['component'].replace('_', ' ')} {100 * r['utilisation']:.0f} %"
+            + ("" if r["status"] in ("ok", "no load expected") else f" ({r['status']})")
+            for r in utilisation_rows(study.measurement, o)))
     for m in likely_slips(study):
         print("  warning: " + plain(m))
     return EXIT_OK
@@ -172,6 +179,12 @@ def _run_locked(args, study) -> int:
     sp = result.setpoint
     print(f"set point {'feasible' if sp.feasible else 'NOT feasible'}; "
           f"P(all matched groups in band) = {result.conformity['all']:.4f} over {result.trials} trials")
+    if result.coefficients is not None:
+        from simunc.report.coefficients import summary_lines
+        from simunc.report.text import unmarked
+
+        for line in summary_lines(result):
+            print(unmarked(line))
     if result.tightening is not None and result.tightening["controllable"].any():
         t = result.tightening
         print(f"control more tightly first: {plain(t[t['controllable']].index[0])}")

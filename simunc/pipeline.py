@@ -22,6 +22,7 @@ import pandas as pd
 from threadpoolctl import threadpool_limits
 
 from simunc.decisions.allocation import Allocation, allocate, input_limits
+from simunc.decisions.coefficients import CoefficientStage, coefficient_stage
 from simunc.decisions.design import (
     DESIGN_STREAM,
     VERIFY_STREAM,
@@ -95,6 +96,9 @@ class Result:
     #: What was assumed where an analysis scaled a correlated input (for the report).
     correlated_scaling: tuple[str, ...] = ()
     design_trials: int = 0
+    #: The measured coefficients, balance utilisation, pre-test chart and model-size trade
+    #: (a study with a [measurement] section).
+    coefficients: CoefficientStage | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -158,6 +162,16 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
             row[f"variance_share_{band.output}"] = part
             row[f"band_share_{band.group}"] = share
             shares.append(share)
+        for out in study.coefficient_outputs:
+            limit = study.limit_of_output(out)
+            st = float(max(sobol[out].loc[inp.name, "ST"], 0.0))
+            part = st if shapley is None else float(max(shapley[out].loc[inp.name, "Shapley"],
+                                                        0.0))
+            row[f"variance_share_{out}"] = part
+            if limit:
+                share = 2.0 * np.sqrt(part) * float(stats.loc[out, "standard_uncertainty"]) / limit
+                row[f"limit_share_{out}"] = share
+                shares.append(share)
         row["largest_band_share"] = max(shares) if shares else 0.0
         rows.append(row)
     if not rows:
@@ -388,7 +402,7 @@ class SensitivityStage:
 def sensitivity_stage(prep: Prepared, mc: MonteCarloStage,
                       progress: Progress | None = None) -> SensitivityStage:
     study, settings = prep.study, prep.settings
-    outputs = [b.output for b in study.bands]
+    outputs = [b.output for b in study.bands] + list(study.coefficient_outputs)
     sens = study.sensitivity
     n, d = settings.sobol_base_samples, len(prep.inputs)
     rows = n * ((2 * d + 2) if sens.second_order else (d + 2))
@@ -444,8 +458,9 @@ def gum_stage(prep: Prepared, mc: MonteCarloStage) -> GumStage:
     return GumStage(lpu=guf, validation=validate(guf, stats.loc[varying], n_digits=2,
                                                  endpoint_se=_endpoint_se(mc, varying),
                                                  trials=mc.engine.trials),
-                    components=component_split(guf, inputs, [b.output for b in prep.study.bands
-                                                             if b.output in varying]))
+                    components=component_split(guf, inputs, [
+                        o for o in [b.output for b in prep.study.bands]
+                        + list(prep.study.coefficient_outputs) if o in varying]))
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -490,7 +505,8 @@ def _decisions(prep: Prepared, sens: SensitivityStage, gum: GumStage, parts: Seq
     if progress is not None:
         progress("tightening, requirements and allocation", 0, 1)
     removed = {}
-    for out in (b.output for b in study.bands):
+    for out in [b.output for b in study.bands] + [o for o in study.coefficient_outputs
+                                                  if study.limit_of_output(o) is not None]:
         if sens.shapley is not None:
             removed[out] = sens.shapley[out]["first_order_full"]
         elif out in sens.sobol:
@@ -661,11 +677,15 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
     sens = sensitivity_stage(prep, mc, progress)
     gum = gum_stage(prep, mc)
     dec = decision_stage(prep, sens, gum, parts, extra_sweeps, progress)
+    if progress is not None and prep.study.measurement is not None:
+        progress("pre-test chart and model-size trade", 0, 1)
+    coef = coefficient_stage(prep, mc.statistics, sens.sobol)
     study, setpoint, model = prep.study, prep.setpoint, prep.model
     return Result(
         study=study, settings=prep.settings, setpoint=setpoint, inputs=prep.inputs,
         trials=mc.engine.trials, seed=prep.settings.seed, statistics=mc.statistics,
-        conformity=mc.conformity, sobol=sens.sobol, ranking=sens.ranking, warnings=mc.warnings,
+        conformity=mc.conformity, sobol=sens.sobol, ranking=sens.ranking,
+        warnings=tuple(mc.warnings) + (coef.warnings if coef is not None else ()),
         input_values=mc.engine.x, output_values=mc.engine.y, preview=mc.preview, engine=mc.engine,
         envelope=envelope(study, model, setpoint), test_plan=plan(study, model, setpoint),
         pi_groups=tuple(study.dimensional_analysis.groups) if study.dimensional_analysis else None,
@@ -673,4 +693,4 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         sobol_result=sens.sobol_result, shapley=sens.shapley, tightening=dec.tightening,
         requirement_checks=dec.requirement_checks, input_limits=dec.input_limits,
         allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials,
-        correlated_scaling=dec.correlated_scaling)
+        correlated_scaling=dec.correlated_scaling, coefficients=coef)

@@ -38,6 +38,9 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
     "speed": ("[velocity]", "m/s", "'230 m/s'"),
     "frequency": ("1/[time]", "Hz", "'12 Hz'"),
     "area": ("[area]", "m^2", "'2.4 m^2'"),
+    "force": ("[force]", "N", "'8 kN'"),
+    "moment": ("[force] * [length]", "N*m", "'450 N*m'"),
+    "angle": ("", "rad", "'2.5 deg'"),
     "dimensionless": ("", "", "'0.78' or '2 %'"),
 }
 
@@ -67,8 +70,16 @@ def _split(key: str, text: object, expected: str) -> tuple[float, str]:
     return float(m.group(1)), m.group(2)
 
 
+#: A drag count: 1e-4 of a force coefficient (the unit drag is quoted in). pint's own ``count``
+#: is a plain 1, so the words are read here before pint sees them.
+COUNT = 1e-4
+_COUNT_WORDS = re.compile(r"^(drag[ _]?)?counts?$")
+
+
 def _quantity(key: str, text: object, expected: str) -> pint.Quantity:
     magnitude, unit = _split(key, text, expected)
+    if _COUNT_WORDS.match(unit.strip().lower()):
+        return ureg.Quantity(magnitude * COUNT, ureg.dimensionless)
     if not _UNIT_TEXT.match(unit):
         raise StudyError(key, text, expected, f"'{unit}' is not a unit")
     nesting = _nesting(unit)
@@ -136,7 +147,15 @@ def parse(key: str, text: object, dimension: str, *, allow_relative: bool = Fals
     """
     example = DIMENSIONS[dimension][2]
     noun = "number" if dimension == "dimensionless" else dimension.replace("_", " ")
-    expected = f"a {noun} such as {example}"
+    bare = _NUMBER.match(text) if isinstance(text, str) else None
+    if bare is not None and dimension != "dimensionless" and _COUNT_WORDS.match(
+            bare.group(2).strip().lower()):
+        raise StudyError(key, text, f"{'an' if noun[0] in 'aeiou' else 'a'} {noun} such as "
+                         f"{example}", "a drag count (0.0001) is for a coefficient only")
+    if dimension == "angle" and not isinstance(text, bool) and (
+            isinstance(text, (int, float)) or (bare is not None and not bare.group(2))):
+        raise StudyError(key, text, f"an angle with its unit such as {example} or '0.04 rad'")
+    expected = f"{'an' if noun[0] in 'aeiou' else 'a'} {noun} such as {example}"
     if allow_relative:
         expected += " or a percentage of reading such as '0.05 %'"
     try:

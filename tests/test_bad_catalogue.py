@@ -197,6 +197,7 @@ END = 'groups = { "temperature chain" = ["T0 thermometer", "T0 control stability
 S = "saltmarsh_towing_tank"
 H = "halden_cryogenic"
 L = "arven_cruise_low_pressure"
+B = "arven_cruise_balance"
 
 #: Hand-written cases: (id, study, old text, new text, key the message names).
 _HAND = [
@@ -473,6 +474,38 @@ _HAND = [
     # text that is not a study
     ("not TOML", A, "[full_scale]", "[full_scale", "(file)"),
     ("title with a new line", A, 'title = "Arven', 'title = """Arven', "(file)"),
+    # the measuring chain (issue 12)
+    ("coefficient the balance does not measure", B, 'side_force = "10 kN"\n', "",
+     "measurement.balance_option[0].capacity.side_force"),
+    ("requirement on a coefficient not measured", B, 'output = "lift_coefficient"',
+     'output = "rolling_moment_coefficients"', "requirement[1].output"),
+    ("angle without unit", B, 'angle_of_attack = "2.5 deg"', 'angle_of_attack = "2.5"',
+     "measurement.angle_of_attack"),
+    ("angle in counts", B, 'angle_of_attack = "2.5 deg"', 'angle_of_attack = "25 counts"',
+     "measurement.angle_of_attack"),
+    ("no reference area", B, 'reference_area = "0.195 m^2"', "",
+     "measurement.reference_area"),
+    ("balance options without a price", B, "price = 0                           #", "#",
+     "measurement.balance.price"),
+    ("option capacity of a component the balance lacks", B, 'yawing_moment = "1.5 kN*m"\n', "",
+     "measurement.balance_option[0].capacity.yawing_moment"),
+    ("tap name with a space", B, 'name = "upper_10"', 'name = "upper 10"',
+     "measurement.tap[0].name"),
+    ("taps table misspelt", B, "[[measurement.tap]]\nname = \"upper_10\"",
+     "[[measurement.taps]]\nname = \"upper_10\"", "measurement.taps"),
+    ("correction on the balance", B, 'accuracy = { full_scale = "0.05 %", range = "30 kN" }',
+     'accuracy = { full_scale = "0.05 %", range = "30 kN" }\ncorrection = "2 N"',
+     "uncertain[7].correction"),
+    ("balance without axial force", B, 'axial_force = "2 kN"\n', "",
+     "measurement.balance.axial_force"),
+    ("option that cannot carry is fine but a negative capacity is not", B, 'normal_force = "30 kN"',
+     'normal_force = "-30 kN"', "measurement.balance.normal_force"),
+    ("load margin as a force", B, 'load_margin = "25 %"', 'load_margin = "25 N"',
+     "measurement.balance.load_margin"),
+    ("Cp above one", B, "pressure_coefficient = 0.15", "pressure_coefficient = 1.5",
+     "measurement.tap[3].pressure_coefficient"),
+    ("alpha of 60 deg", B, 'angle_of_attack = "2.5 deg"', 'angle_of_attack = "60 deg"',
+     "measurement.angle_of_attack"),
 ]
 
 

@@ -67,9 +67,12 @@ class FakeStudy:
     requirements: tuple
     design: DesignSettings = field(default_factory=lambda: DesignSettings(60_000, 240_000, 100.0))
     run: RunSettings = field(default_factory=RunSettings)
+    measurement: None = None
 
     band = Study.band
     inside = Study.inside
+    coefficient_outputs = Study.coefficient_outputs
+    limit_of_output = Study.limit_of_output
 
 
 def _problem():

@@ -45,6 +45,7 @@ import numpy as np
 import pandas as pd
 from scipy import optimize, special
 
+from simunc.decisions.balance import choices
 from simunc.decisions.requirements import (
     KINDS,
     LOOSEN,
@@ -238,6 +239,10 @@ class Allocation:
     note: str = ""
     #: Controls whose allocated tolerance lets the facility leave a limit (for the report).
     excursions: tuple[str, ...] = ()
+    #: The balance chosen among [[measurement.balance_option]] ("" without options), and the
+    #: balances that were no candidate (why).
+    balance: str = ""
+    excluded_balances: tuple[str, ...] = ()
 
     @property
     def verified(self) -> bool:
@@ -295,6 +300,11 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
     """
     st = design.study
     idx = _costed(inputs)
+    meas = st.measurement
+    balance = choices(inputs, meas, design.setpoint.outputs) if meas is not None and meas.options \
+        else None
+    if balance is not None:
+        idx = sorted(set(idx) | set(balance.indices))
     if not idx or not st.requirements:
         return None
     outs = list(dict.fromkeys([r.output for r in st.requirements if r.output] +
@@ -302,7 +312,7 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
     sur = Surrogate(design, {k: sensitivities.loc[k].to_numpy(dtype=float) for k in outs},
                     np.asarray(covariance, dtype=float))
     largest = st.design.largest_scale
-    kind = inputs[idx[0]].spec.cost.kind
+    kind = "grades" if balance is not None else inputs[idx[0]].spec.cost.kind
     base = design.ones()
     rounds, message, grades, note = 0, "", {}, ""
     if kind == "power":
@@ -342,16 +352,26 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
         cost = _power_cost(inputs, idx, scale[idx]) if best is not None else math.nan
         cost_written = _power_cost(inputs, idx, np.ones(len(idx)))
     else:
-        options = [[(g, grade_scale(inputs[j], g)) for g in inputs[j].spec.cost.grades]
-                   for j in idx]
+        # One choice per graded input, and the balance as one choice over its inputs:
+        # (input indices, [(name, scale per index, price), ...]).
+        groups = [([j], [(g[0], np.array([grade_scale(inputs[j], g)]), g[2])
+                         for g in inputs[j].spec.cost.grades])
+                  for j in idx if inputs[j].spec.cost is not None
+                  and (balance is None or j not in balance.indices)]
+        if balance is not None:
+            groups.append((list(balance.indices), list(balance.candidates)))
+        options = [g[1] for g in groups]
         n_comb = math.prod(len(o) for o in options)
         if n_comb > MAX_COMBINATIONS:
             raise ValueError(f"{n_comb} grade combinations (at most {MAX_COMBINATIONS})")
         combos = np.array(list(product(*[range(len(o)) for o in options])), dtype=int)
-        prices = np.array([sum(options[k][c][0][2] for k, c in enumerate(row)) for row in combos])
+        if not combos.size:
+            combos = np.zeros((0, len(options)), dtype=int)
+        prices = np.array([sum(options[k][c][2] for k, c in enumerate(row)) for row in combos])
         scales = np.tile(base, (len(combos), 1))
-        for k, j in enumerate(idx):
-            scales[:, j] = np.array([o[1] for o in options[k]])[combos[:, k]]
+        for k, (js, opts) in enumerate(groups):
+            table_k = np.array([o[1] for o in opts]).reshape(len(opts), len(js))
+            scales[:, js] = table_k[combos[:, k]]
         sur.calibrate(base)
         pred = np.all(sur.margins(scales) >= SCREEN, axis=1)
         order = np.lexsort((~pred, prices))
@@ -363,11 +383,16 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
             checked += 1
             if design.figures(scales[m], margin=True).met():
                 scale, cost = scales[m].copy(), float(prices[m])
-                grades = {inputs[j].name: options[k][combos[m, k]][0][0] for k, j in enumerate(idx)}
+                grades = {inputs[j].name: options[k][combos[m, k]][0]
+                          for k, (js, _) in enumerate(groups) for j in js}
                 break
             if checked >= MAX_CHECKS:
                 break
-        if scale is None:
+        if scale is None and not len(combos):
+            message = ("no balance carries the expected loads with the load margin: "
+                       + "; ".join(balance.excluded if balance is not None else ()))
+            scale = base * np.nan
+        elif scale is None:
             message = (_why_impossible(design, idx) if not design.figures(
                 _zeroed(base, idx), margin=True).met() else
                 f"no combination of the grades meets every requirement ({checked} of "
@@ -395,7 +420,10 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
         if ok and not message else ()
     return Allocation(kind, scale, cost, cost_written, grades, table, design_checks, verification,
                       loosened, vd.trials if vd else 0, vd.seed if vd else 0, rounds, message,
-                      note, excursions)
+                      note, excursions,
+                      balance=next((grades[inputs[j].name] for j in balance.indices
+                                    if inputs[j].name in grades), "") if balance else "",
+                      excluded_balances=balance.excluded if balance else ())
 
 
 def _relax(design, scale: np.ndarray, idx, inputs, largest: float) -> np.ndarray:

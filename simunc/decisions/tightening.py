@@ -30,7 +30,8 @@ def tightening(design: Design, variance_removed: dict[str, pd.Series], inputs) -
         ``U_k2_halved_<output>`` and ``delta_U_k2_<output>`` (the change of
         U = 2 u when the input's tolerance is halved); ``conformity_halved``
         and ``delta_conformity`` (all groups); ``gain_bands``, the largest
-        reduction of U over a group's tolerance half-width; ``controllable``
+        reduction of U over a group's tolerance half-width (or over the requirement limit on a
+        measured coefficient, whose columns are added alike); ``controllable``
         and ``rank`` (controllable inputs first, then by ``gain_bands``).
     """
     base = design.figures(design.ones())
@@ -52,6 +53,16 @@ def tightening(design: Design, variance_removed: dict[str, pd.Series], inputs) -
             row[f"U_k2_halved_{k}"] = fig.expanded_k2[k]
             row[f"delta_U_k2_{k}"] = fig.expanded_k2[k] - base.expanded_k2[k]
             gains.append((base.expanded_k2[k] - fig.expanded_k2[k]) / band.tolerance)
+        for k in design.study.coefficient_outputs:  # measured coefficients with a limit on them
+            limit = design.study.limit_of_output(k)
+            if limit is None:
+                continue
+            frac = float(variance_removed.get(k, pd.Series(dtype=float)).get(inp.name, np.nan))
+            row[f"variance_removed_percent_{k}"] = 100.0 * min(max(frac, 0.0), 1.0) \
+                if np.isfinite(frac) else np.nan
+            row[f"U_k2_halved_{k}"] = fig.expanded_k2[k]
+            row[f"delta_U_k2_{k}"] = fig.expanded_k2[k] - base.expanded_k2[k]
+            gains.append((base.expanded_k2[k] - fig.expanded_k2[k]) / limit)
         row["conformity_halved"] = fig.conformity["all"]
         row["delta_conformity"] = fig.conformity["all"] - base.conformity["all"]
         row["gain_bands"] = max(gains) if gains else 0.0

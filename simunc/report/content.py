@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from simunc import __version__
-from simunc.report import decisions
+from simunc.report import coefficients, decisions
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
 from simunc.report.text import lit
@@ -86,7 +86,7 @@ def build(result) -> list[Block]:
             f"{lit(band.output)} = {o[band.output]:.5g}" for band in st.bands) + ".",
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
-    ] + _first_to_tighten(result, sp)
+    ] + coefficients.summary_lines(result) + _first_to_tighten(result, sp)
         + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
             "and the facility limits."] if not sp.feasible else [])
         + [f"Warning: {lit(w)}" for w in result.warnings])]
@@ -277,6 +277,7 @@ def build(result) -> list[Block]:
             b.append(Block("table", _table(bud[["term", "sensitivity", "standard_uncertainty",
                                                 "contribution", "share_percent"]])))
 
+    b += coefficients.coefficient_blocks(result)
     if result.inputs:
         b += decisions.sensitivity_blocks(result)
         b += decisions.tightening_blocks(result)

@@ -74,17 +74,21 @@ def tightening_blocks(result) -> list[Block]:
         src = ("Shapley first_order_full" if result.shapley is not None else
                "Sobol S1, which ignores the correlations" if st.correlation is not None
                else "Sobol S1")
+        limited = [o for o in st.coefficient_outputs if st.limit_of_output(o) is not None]
         b.append(Block("paragraph", f"For each input: the variance of each matched group removed "
                        f"if the input were known exactly ({src} × Var(y)), and, on "
                        f"{result.design_trials} common-random-number trials, the expanded "
                        "uncertainty U = 2u (k = 2) and the probability that every group is inside "
                        "its band with that input's tolerance halved. gain = the largest drop of U "
-                       "over a group's tolerance half-width. Facility instruments and controls "
+                       "over a group's tolerance half-width"
+                       + (" or over the requirement limit on a measured coefficient ("
+                          + lit(", ".join(limited)) + ")" if limited else "")
+                       + ". Facility instruments and controls "
                        "come first; conditions and property models (controllable = false) follow "
                        "— a tighter tolerance there means better data, not a better facility."))
         cols = ["rank", "perturbs", "controllable"]
-        for band in st.bands:
-            cols += [f"variance_removed_percent_{band.output}", f"delta_U_k2_{band.output}"]
+        for out in [band.output for band in st.bands] + limited:
+            cols += [f"variance_removed_percent_{out}", f"delta_U_k2_{out}"]
         cols += ["delta_conformity", "gain_bands"]
         b.append(Block("table", table(t[cols].reset_index())))
         worse = [n for n in t.index if any(t.loc[n, f"delta_U_k2_{band.output}"] > 0
@@ -99,7 +103,8 @@ def tightening_blocks(result) -> list[Block]:
         if len(top):
             b.append(Block("paragraph", f"Control more tightly first: **{lit(top.index[0])}** "
                            f"(halving its tolerance cuts U by {fmt(top.iloc[0]['gain_bands'])} of "
-                           "a band half-width)."))
+                           "a band half-width" + (" or requirement limit" if limited else "")
+                           + ")."))
         b.append(Block("figure", "tightening.png", caption="Drop of the expanded uncertainty "
                        "(k = 2), in tolerance half-widths, when one input's tolerance is halved."))
     basis = ("the Shapley effect (the inputs are correlated)" if result.study.correlation
@@ -107,7 +112,10 @@ def tightening_blocks(result) -> list[Block]:
     b.append(Block("paragraph", "band share = 2 sqrt(s var(y)) / tolerance: the expanded (k = 2) "
                    "uncertainty an input brings to a matched group, as a fraction of that group's "
                    f"tolerance half-width, with s its share of var(y) from {basis} "
-                   "(column variance_share)."))
+                   "(column variance_share)"
+                   + ("; limit share, alike, of a measured coefficient against its requirement "
+                      "limit; largest_band_share is the largest of both."
+                      if st.coefficient_outputs else ".")))
     b.append(Block("table", table(result.ranking.reset_index())))
     return b
 

@@ -64,8 +64,12 @@ def reynolds_histogram(result) -> bytes:
 
 @_literal_text
 def sobol_bars(result) -> bytes:
-    """Grouped bars of first-order and total Sobol indices per matched output."""
-    tables = result.sobol
+    """Grouped bars of first-order and total Sobol indices per matched output (and per measured
+    coefficient with a requirement on it)."""
+    st = result.study
+    shown = [b.output for b in st.bands] + [o for o in st.coefficient_outputs
+                                            if st.limit_of_output(o) is not None]
+    tables = {k: result.sobol[k] for k in shown if k in result.sobol}
     n = max(len(tables), 1)
     fig, axes = plt.subplots(1, n, figsize=(3.2 + 3.6 * n, 0.45 * max(len(result.inputs), 3) + 1.6),
                              squeeze=False, sharey=True)
@@ -187,6 +191,48 @@ def sweep_plot(result, sw) -> bytes:
     return _png(fig)
 
 
+@_literal_text
+def pretest_chart(result) -> bytes:
+    """U of CD (in counts) and CL against q per balance, where the loads exceed a capacity dotted."""
+    c = result.coefficients.chart
+    outs = list(next(iter(c.expanded.values())))
+    fig, axes = plt.subplots(1, len(outs), figsize=(5.6 * len(outs), 4.4), squeeze=False)
+    swept = {"stagnation_pressure": "p0 swept at the test Mach number", "mach": "Mach number swept "
+             "at the stagnation pressure of the set point", "speed": "speed swept"}[c.axis]
+    x = c.dynamic_pressure / 1e3
+    colours = ["#4a78a8", "#e1a33b", "#6ab04c", "#c0392b", "#8e44ad", "#7f8c8d"]
+    for ax, out in zip(axes[0], outs):
+        factor = 1e4 if out == "drag_coefficient" else 1.0
+        for i, (name, series) in enumerate(c.expanded.items()):
+            colour = colours[i % len(colours)]
+            y = series[out] * factor
+            ok = np.asarray(c.carries[name], dtype=bool)
+            near = ~ok  # the dotted part reaches its solid neighbours, so no gap shows
+            near[1:] |= ~ok[:-1]
+            near[:-1] |= ~ok[1:]
+            ax.plot(x, np.where(ok, y, np.nan), color=colour, lw=1.6,
+                    label=plain(name) + (" (as written)" if name == c.balance else ""))
+            ax.plot(x, np.where(near, y, np.nan), color=colour, lw=1.0, ls=":")
+        limit = result.study.limit_of_output(out)
+        if limit:
+            ax.axhline(limit * factor, color="black", lw=0.9, ls="--", label="requirement")
+        ax.axvline(c.setpoint_q / 1e3, color="#555555", lw=0.8, label="set point")
+        ax.set_xlabel(f"dynamic pressure q [kPa] ({swept})")
+        p = f"{100 * c.probability:g} %"
+        ax.set_ylabel(f"U ({p}) of CD [counts]" if factor != 1.0 else f"U ({p}) of CL")
+        ax.set_ylim(bottom=0.0)
+        ax.grid(alpha=0.3)
+    dotted = not all(bool(np.all(v)) for v in c.carries.values())
+    handles, labels = axes[0][0].get_legend_handles_labels()
+    if dotted:
+        handles.append(plt.Line2D([], [], color="#777777", ls=":"))
+        labels.append("dotted: the expected loads exceed a capacity with the load margin")
+    fig.legend(handles, labels, fontsize=7, loc="lower center", ncol=2,
+               bbox_to_anchor=(0.5, -0.02 - 0.035 * ((len(labels) + 1) // 2)))
+    fig.tight_layout()
+    return _png(fig)
+
+
 def all_figures(result) -> dict[str, bytes]:
     """File name -> PNG bytes."""
     figs = {"reynolds_ratio_histogram.png": reynolds_histogram(result)}
@@ -198,4 +244,6 @@ def all_figures(result) -> dict[str, bytes]:
         figs["tightening.png"] = tightening_bars(result)
     for i, sw in enumerate(result.sweeps, start=1):
         figs[f"sweep_{i}.png"] = sweep_plot(result, sw)
+    if result.coefficients is not None and result.coefficients.chart is not None:
+        figs["pretest_chart.png"] = pretest_chart(result)
     return figs

@@ -42,6 +42,8 @@ def _requirements(result):
             "message": a.message or None, "note": a.note or None, "rounds": a.rounds,
             "scales": {i.name: float(v) for i, v in zip(result.inputs, a.scale)},
             "grades": dict(a.grades),
+            "balance": a.balance or None,
+            "excluded_balances": list(a.excluded_balances),
             "verified": a.verified if not a.message else False,
             "fails_when_loosened": a.fails_loosened if not a.message else None,
             "design": [_check(c) for c in a.design_checks],
@@ -153,11 +155,12 @@ def results_dict(result) -> dict:
                 out: {name: dict(row) for name, row in t.iterrows()}
                 for out, t in result.shapley.items()},
             "budgets": None if result.lpu is None else {
-                b.output: {term: {k: row[k] for k in ("kind", "sensitivity", "standard_uncertainty",
+                out: {term: {k: row[k] for k in ("kind", "sensitivity", "standard_uncertainty",
                                                        "correlation", "contribution",
                                                        "share_percent")}
-                           for term, row in result.lpu.budget(b.output).iterrows()}
-                for b in st.bands if b.output in result.lpu.budgets},
+                           for term, row in result.lpu.budget(out).iterrows()}
+                for out in [b.output for b in st.bands] + list(st.coefficient_outputs)
+                if out in result.lpu.budgets},
         },
         "ranking": [{"input": name, **row} for name, row in result.ranking.iterrows()],
         "tightening": None if result.tightening is None else [
@@ -189,8 +192,29 @@ def results_dict(result) -> dict:
             {"name": g.name, "exponents": {k: int(v) for k, v in g.exponents.items()},
              "formula": g.formula} for g in result.pi_groups],
         "output_units": {k: row["unit"] for k, row in result.statistics.iterrows()},
+        "coefficients": _coefficients(result.coefficients),
     }
     return _clean(doc)
+
+
+def _coefficients(c):
+    if c is None:
+        return None
+    chart = c.chart
+    return {
+        "table": {out: dict(row) for out, row in c.table.iterrows()},
+        "utilisation": None if c.utilisation is None else c.utilisation.to_dict(orient="records"),
+        "notes": list(c.notes),
+        "pressure_chart": None if chart is None else {
+            "axis": chart.axis, "values": [float(v) for v in chart.values],
+            "dynamic_pressure": [float(v) for v in chart.dynamic_pressure],
+            "expanded": {name: {o: [float(v) for v in arr] for o, arr in d.items()}
+                         for name, d in chart.expanded.items()},
+            "carries": {name: [bool(v) for v in arr] for name, arr in chart.carries.items()},
+            "setpoint": chart.setpoint, "setpoint_q": chart.setpoint_q, "balance": chart.balance,
+            "probability": chart.probability, "trials": chart.trials, "seed": chart.seed},
+        "scale_trade": None if c.trade is None else c.trade.to_dict(orient="records"),
+    }
 
 
 def results_json(result) -> str:

@@ -26,6 +26,20 @@ A *gas* facility is set by stagnation pressure, stagnation temperature and
 Mach number; the static state follows isentropically from the fluid model.  A
 *liquid* facility (water tunnel, towing tank) is set by speed, static pressure
 and temperature.
+
+Data reduction
+--------------
+With a :class:`~simunc.study.schema.Measurement` the model also does what the
+facility's data system does (:meth:`SimilitudeModel._reduction`).  The true
+angle of attack is ``alpha_set - e_attitude + e_upflow``; the true loads are the
+pre-test coefficients times the true q and the true geometry, resolved to the
+balance's body axes at the true angle; the balance reads them with its errors;
+the data system transfers the pitching moment with the nominal distance,
+resolves the forces back to wind axes at the SET angle and divides by the
+recorded q (the indicated state, as ``dynamic_pressure_indicated``) and the
+nominal geometry.  A pressure tap reads ``p + Cp q`` against the scanner's
+reference.  The reduced coefficients are outputs like the groups; their errors
+are the reduced values less the pre-test ones.
 """
 
 from __future__ import annotations
@@ -36,10 +50,10 @@ from typing import Mapping, cast
 import numpy as np
 
 from simunc.constants import STANDARD_GRAVITY
-from simunc.physics import flow, groups
+from simunc.physics import flow, groups, reduction
 from simunc.physics.fluids import Fluid, GasModel
 from simunc.study.catalogue import GROUPS, TARGETS, CustomGroup, formed_groups
-from simunc.study.schema import FullScaleGiven, MachFrom
+from simunc.study.schema import FullScaleGiven, MachFrom, Measurement
 
 
 @dataclass(frozen=True)
@@ -59,6 +73,9 @@ class SimilitudeModel:
         Whether ``full_scale_speed_or_mach`` is a Mach number (held when the
         temperature varies) or a speed [m/s].
     custom_groups : tuple of CustomGroup
+    measurement : Measurement or None
+        What the test measures: with it the model also reduces the balance and tap readings
+        to coefficients (:meth:`_reduction`).
     """
 
     fluid: Fluid
@@ -66,6 +83,7 @@ class SimilitudeModel:
     mach_from: MachFrom = "pressure_ratio"
     full_scale_given: FullScaleGiven = "mach"
     custom_groups: tuple[CustomGroup, ...] = field(default=())
+    measurement: Measurement | None = None
 
     @property
     def kind(self) -> str:
@@ -119,6 +137,7 @@ class SimilitudeModel:
             mach_rec = mach_set + d("mach_control")
             p_rec, t_rec = f.static_state(p0_ind, t0_ind, mach_rec, **nominal)
             speed_rec = mach_rec * f.speed_of_sound(p_rec, t_rec, **nominal)
+            p0_rec = p0_ind
         else:
             speed = (np.asarray(x["speed"], dtype=float) - d("speed_indication")
                      + d("speed_control"))
@@ -141,8 +160,9 @@ class SimilitudeModel:
             p_rec = flow.hydrostatic_pressure(p_rec, f.density(p_rec, t_rec, **nominal), depth,
                                               STANDARD_GRAVITY)
             mach_rec = speed_rec / f.speed_of_sound(p_rec, t_rec, **nominal)
+            p0_rec = p_rec + flow.kinetic_pressure(f.density(p_rec, t_rec, **nominal), speed_rec)
         mu = f.viscosity(p, t, **params) * (1.0 + d("viscosity_model"))
-        recorded = {"p": p_rec, "t": t_rec, "speed": speed_rec, "mach": mach_rec,
+        recorded = {"p": p_rec, "t": t_rec, "speed": speed_rec, "mach": mach_rec, "p0": p0_rec,
                     "rho": f.density(p_rec, t_rec, **nominal),
                     "mu": f.viscosity(p_rec, t_rec, **nominal)}
         return {"fluid": f, "params": params, "p": p, "t": t, "p0": p0, "t0": t0, "rho": rho,
@@ -184,6 +204,75 @@ class SimilitudeModel:
             "cavitation": lambda: groups.cavitation_number(p, f.vapour_pressure(t), rho, u),
         }
         return {name: formulas[name]() for name in names}
+
+    def _reduction(self, x, d, fac: dict, q, q_rec) -> dict:
+        """The data reduction of one trial: true loads, balance and scanner readings, and the
+        coefficients the data system reduces from them (see the module docstring).
+
+        True: ``alpha = alpha_set - e_attitude + e_upflow``; wind-axis loads ``C q S`` (``C q S c``
+        for the pitching moment) with the true q and the true geometry, resolved to body axes
+        at the true alpha; the balance reads each component with its error (the axial force
+        also ``e N``) and the pitching moment about its own centre.  Reduced: the readings
+        resolved to wind axes at the measured angle (the set one) and divided by the recorded
+        q and the nominal geometry.  Taps: ``p_tap = p + Cp q``, the scanner reads its
+        differential to the reference (test-section static or stagnation pressure) with its
+        error, the data system adds the recorded reference and subtracts the recorded static
+        pressure.
+        """
+        m = cast(Measurement, self.measurement)
+        length_nom = np.asarray(x["model_length"], dtype=float)
+        scale = (length_nom + d("model_reference_length")) / length_nom
+        area_nom = m.area_per_length2 * length_nom ** 2
+        area = area_nom + d("reference_area")
+        chord_nom, span_nom = m.chord_per_length * length_nom, m.span_per_length * length_nom
+        alpha_set = m.angle_of_attack
+        alpha = alpha_set - d("attitude_indication") + d("flow_angularity")
+        out = {"angle_of_attack": alpha, "angle_of_attack_error": alpha_set - alpha,
+               "reference_area": area}
+        c = m.coefficients
+        qs, qs_rec = q * area, q_rec * area_nom
+        true: dict[str, np.ndarray] = {}
+        read: dict[str, np.ndarray] = {}
+        if "normal_force" in m.capacity and "axial_force" in m.capacity:
+            normal, axial = reduction.wind_to_body(c["lift"] * qs, c["drag"] * qs, alpha)
+            true.update(normal_force=normal, axial_force=axial)
+            read["normal_force"] = normal + d("normal_force_indication")
+            read["axial_force"] = (axial + d("axial_force_indication")
+                                   + d("axial_force_interaction") * normal)
+        if "pitching_moment" in m.capacity:
+            moment_ref = c["pitching_moment"] * qs * chord_nom * scale
+            n_true = true.get("normal_force", 0.0)
+            transfer = m.transfer + d("moment_transfer_distance")
+            true["pitching_moment"] = moment_ref - transfer * n_true
+            reduced_ref = (true["pitching_moment"] + d("pitching_moment_indication")
+                           + m.transfer * read.get("normal_force", 0.0))
+            out["pitching_moment_coefficient"] = reduction.moment_coefficient(
+                reduced_ref, q_rec, area_nom, chord_nom)
+        for name, ref_true, ref_nom in (("side_force", 1.0, 1.0),
+                                        ("rolling_moment", span_nom * scale, span_nom),
+                                        ("yawing_moment", span_nom * scale, span_nom)):
+            if name in m.capacity:
+                true[name] = c[name] * qs * ref_true
+                out[f"{name}_coefficient"] = (true[name] + d(f"{name}_indication")) / (
+                    qs_rec * ref_nom)
+        if "lift" in c and "drag" in c:
+            lift, drag = reduction.body_to_wind(read["normal_force"], read["axial_force"],
+                                                alpha_set)
+            out["lift_coefficient"] = reduction.force_coefficient(lift, q_rec, area_nom)
+            out["drag_coefficient"] = reduction.force_coefficient(drag, q_rec, area_nom)
+        for name in m.capacity:
+            out[name] = true[name]
+        if m.taps:
+            # Cp = (p_tap - p_ref + e + p_ref,recorded - p_recorded) / q_recorded with
+            # p_tap = p + Cp q: the terms common to every tap are formed once.
+            common = d("pressure_scanner_indication")
+            if m.scanner_reference == "stagnation":
+                common = common + (fac["p"] - fac["p0"]) + (fac["recorded"]["p0"]
+                                                            - fac["recorded"]["p"])
+            q_ratio, shift = q / q_rec, reduction.pressure_coefficient(common, 0.0, q_rec)
+            for tap, cp in m.taps:
+                out[f"pressure_coefficient_{tap}"] = cp * q_ratio + shift
+        return out
 
     @staticmethod
     def _quantities(s: dict, length, frequency) -> dict:
@@ -263,6 +352,8 @@ class SimilitudeModel:
                 out[f"{name}_difference"] = gm[name] - gf[name]
             else:
                 out[f"{name}_ratio"] = gm[name] / gf[name]
+        if self.measurement is not None:
+            out.update(self._reduction(x, d, fac, q, q_rec))
         if self.custom_groups:
             qm = self._quantities(fac, length, freq)
             qf = self._quantities(fs, fs_length, fs_freq)

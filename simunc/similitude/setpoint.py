@@ -134,7 +134,7 @@ def build_model(study: Study, fluid=None) -> SimilitudeModel:
     return SimilitudeModel(fluid=fluid or study.facility.gas, full_scale_fluid=study.full_scale.fluid,
                            mach_from=study.facility.mach_from,
                            full_scale_given=study.full_scale.given,
-                           custom_groups=study.custom_groups)
+                           custom_groups=study.custom_groups, measurement=study.measurement)
 
 
 def _q(value: float, unit: str) -> str:

@@ -105,7 +105,59 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
            "full-scale Mach-number deviation"),
     Target("full_scale_frequency", "frequency", "full_scale_frequency",
            "full-scale frequency deviation"),
+    # The measuring chain of [measurement]: data-reduction errors of the coefficients.
+    Target("normal_force_indication", "force", "normal_force",
+           "balance normal-force error (reading = true + e)"),
+    Target("axial_force_indication", "force", "axial_force",
+           "balance axial-force error (reading = true + e)"),
+    Target("pitching_moment_indication", "moment", "pitching_moment",
+           "balance pitching-moment error (reading = true + e)"),
+    Target("side_force_indication", "force", "side_force",
+           "balance side-force error (reading = true + e)"),
+    Target("rolling_moment_indication", "moment", "rolling_moment",
+           "balance rolling-moment error (reading = true + e)"),
+    Target("yawing_moment_indication", "moment", "yawing_moment",
+           "balance yawing-moment error (reading = true + e)"),
+    Target("axial_force_interaction", "dimensionless", None,
+           "residual interaction of the normal force on the axial-force reading, a fraction of N "
+           "(reading = A + e N)"),
+    Target("moment_transfer_distance", "length", None,
+           "error of the distance from the balance moment centre to the moment reference point "
+           "(true = nominal + e; the data system transfers with the nominal distance)"),
+    Target("attitude_indication", "angle", "angle_of_attack",
+           "model attitude (angle-of-attack) sensor error (true = set - e)"),
+    Target("flow_angularity", "angle", "angle_of_attack",
+           "test-section upflow left after the flow-angularity correction (true angle of attack "
+           "= geometric + e)"),
+    Target("reference_area", "area", "reference_area",
+           "model reference-area manufacturing deviation (true = nominal + e)"),
+    Target("pressure_scanner_indication", "pressure", "dynamic_pressure",
+           "pressure-scanner error of every tap's differential pressure (reading = true + e; a % "
+           "of reading is of q)"),
 )}
+
+#: Balance components: name -> (dimension of its load, unit of its load).
+BALANCE_COMPONENTS: dict[str, tuple[str, str]] = {
+    "normal_force": ("force", "N"), "axial_force": ("force", "N"),
+    "pitching_moment": ("moment", "N m"), "side_force": ("force", "N"),
+    "rolling_moment": ("moment", "N m"), "yawing_moment": ("moment", "N m"),
+}
+#: Coefficients a study can state and the reduction gives: name -> (balance components it
+#: needs, label).  Lift, drag and pitching moment in wind axes; the lateral ones in body axes.
+COEFFICIENTS: dict[str, tuple[tuple[str, ...], str]] = {
+    "lift": (("normal_force", "axial_force"), "lift coefficient CL"),
+    "drag": (("normal_force", "axial_force"), "drag coefficient CD"),
+    "pitching_moment": (("normal_force", "axial_force", "pitching_moment"),
+                        "pitching-moment coefficient Cm (about the moment reference point)"),
+    "side_force": (("side_force",), "side-force coefficient CY (body axes)"),
+    "rolling_moment": (("rolling_moment",), "rolling-moment coefficient Cl (body axes)"),
+    "yawing_moment": (("yawing_moment",), "yawing-moment coefficient Cn (body axes)"),
+}
+#: Targets that only the [measurement] section gives a meaning.
+MEASUREMENT_TARGETS = frozenset(
+    [f"{c}_indication" for c in BALANCE_COMPONENTS] + [
+        "axial_force_interaction", "moment_transfer_distance", "attitude_indication",
+        "flow_angularity", "reference_area", "pressure_scanner_indication"])
 
 #: Targets that are the full-scale condition itself (not a test error): reported apart.
 CONDITION_TARGETS = frozenset(t.name for t in TARGETS.values() if t.name.startswith("full_scale_")
@@ -175,7 +227,25 @@ OUTPUTS: dict[str, tuple[str, str]] = {
     "full_scale_frequency": ("Hz", "full-scale frequency"),
     "sutherland": ("K", "Sutherland constant used"),
     "vapour_mole_fraction": ("1", "water-vapour mole fraction"),
+    "angle_of_attack": ("rad", "true angle of attack (geometric + upflow)"),
+    "angle_of_attack_error": ("rad", "angle of attack the data system uses - true"),
+    "reference_area": ("m^2", "true model reference area"),
 }
+
+
+def measurement_outputs(components: Sequence[str], coefficients: Sequence[str],
+                        taps: Sequence[str]) -> tuple[str, ...]:
+    """Output keys of the data reduction: the attitude and area, the balance loads, each reduced
+    coefficient and each tap's pressure coefficient.  (A coefficient's error is the reduced value
+    less the stated one, a constant: its statistics are the coefficient's, shifted; the
+    coefficient table gives its bias.)
+
+    >>> measurement_outputs(["normal_force"], ["lift"], ["u30"])[-2:]
+    ('lift_coefficient', 'pressure_coefficient_u30')
+    """
+    return tuple(["angle_of_attack", "angle_of_attack_error", "reference_area"] + list(components)
+                 + [f"{c}_coefficient" for c in coefficients]
+                 + [f"pressure_coefficient_{t}" for t in taps])
 
 
 def describe_output(key: str) -> tuple[str, str]:
@@ -186,6 +256,15 @@ def describe_output(key: str) -> tuple[str, str]:
     """
     if key in OUTPUTS:
         return OUTPUTS[key]
+    if key in BALANCE_COMPONENTS:
+        return BALANCE_COMPONENTS[key][1].replace(" ", "*"), \
+            f"{key.replace('_', ' ')} on the balance (true load)"
+    for name, (_, label) in COEFFICIENTS.items():
+        if key == f"{name}_coefficient":
+            return "1", f"{label}, as the data system reduces it"
+    if key.startswith("pressure_coefficient_"):
+        tap = key[len("pressure_coefficient_"):]
+        return "1", f"pressure coefficient Cp at tap {tap}, as the data system reduces it"
     for suffix, text in (("_ratio", "model / full scale"), ("_difference", "model - full scale"),
                          ("_full_scale", "full scale"), ("_model", "model")):
         if key.endswith(suffix):
@@ -219,12 +298,15 @@ def formed_groups(facility_fluid: object, full_scale_fluid: object, frequency: b
 
 
 def formed_outputs(facility_fluid: object, full_scale_fluid: object, *, model_frequency: bool,
-                   full_scale_frequency: bool, custom: Sequence[str] = ()) -> tuple[str, ...]:
+                   full_scale_frequency: bool, custom: Sequence[str] = (),
+                   measured: Sequence[str] = ()) -> tuple[str, ...]:
     """Every output key the model returns for a study: the flow quantities of :data:`OUTPUTS`
     (frequencies where given, the facility fluid's parameters), then per formed group
-    ``<group>_model``, ``<group>_full_scale`` and :func:`output_key`, then the user groups."""
+    ``<group>_model``, ``<group>_full_scale`` and :func:`output_key`, then the user groups,
+    then ``measured`` (:func:`measurement_outputs` of a study with a measurement section)."""
     params = tuple(getattr(facility_fluid, "parameters", ()))
     every_parameter = {t.parameter for t in TARGETS.values() if t.parameter}
+    every_parameter |= set(measurement_outputs((), (), ()))
     flow = [k for k in OUTPUTS if k not in every_parameter
             and (k != "frequency" or model_frequency)
             and (k != "full_scale_frequency" or full_scale_frequency)] + list(params)
@@ -234,5 +316,5 @@ def formed_outputs(facility_fluid: object, full_scale_fluid: object, *, model_fr
         [output_key(g) for g in groups]
     for name in custom:
         out += [f"{name}_model", f"{name}_full_scale", f"{name}_ratio"]
-    return tuple(out)
+    return tuple(out) + tuple(measured)
 

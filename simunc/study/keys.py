@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
-from simunc.study.catalogue import GROUPS
+from simunc.study.catalogue import BALANCE_COMPONENTS, GROUPS
+from simunc.study.measurement import BALANCE_KEYS, MEASUREMENT_KEYS, OPTION_KEYS, TAP_KEYS
 
 ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
               "correlations", "run", "dimensional_analysis", "requirement", "sweep",
-              "sensitivity", "design")
+              "sensitivity", "design", "measurement")
 FULL_SCALE_KEYS = ("fluid", "altitude", "pressure_altitude", "temperature_offset",
                     "static_pressure", "static_temperature", "depth", "mach", "speed",
                     "reference_length", "frequency", "frontal_area")
@@ -70,4 +71,10 @@ SECTION_KEYS: dict[str, tuple[str, ...]] = {
     "sweep": SWEEP_KEYS,
     "sensitivity": SENSITIVITY_KEYS,
     "design": DESIGN_KEYS,
+    "measurement": MEASUREMENT_KEYS,
+    "measurement.balance": BALANCE_KEYS,
+    "measurement.balance_option": OPTION_KEYS,
+    "measurement.balance_option.capacity": tuple(BALANCE_COMPONENTS),
+    "measurement.balance_option.full_scale": tuple(BALANCE_COMPONENTS),
+    "measurement.tap": TAP_KEYS,
 }

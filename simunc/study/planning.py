@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from typing import Any, cast
 
-from simunc.errors import StudyError
+from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.study.catalogue import TARGETS
 from simunc.study.keys import (
     COST_KEYS,
@@ -58,6 +58,16 @@ def requirement(data: Any, index: int, bands, outputs) -> Requirement:
         g = t.choice("group", {k: k for k in groups})
         output = groups[g].output
     elif t.has("output"):
+        raw = t.data["output"]
+        coefficient = isinstance(raw, str) and ("_coefficient" in raw
+                                                or raw.startswith("pressure_coefficient_"))
+        if coefficient and raw not in outputs:
+            measured = [k for k in outputs if "coefficient" in k]
+            raise StudyError(t.key("output"), repr(plain(raw, GIVEN_LIMIT)),
+                             "a coefficient this study measures: " + (", ".join(measured) or
+                                                                       "none"),
+                             "a coefficient needs a [measurement] section with the balance "
+                             "components (or the [[measurement.tap]]) that measure it")
         output = t.choice("output", {k: k for k in outputs})
     note = t.text("note", "")
     req = _requirement(t, kind, groups, output, note)

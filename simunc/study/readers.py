@@ -21,6 +21,7 @@ from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.study import planning
+from simunc.study.measurement import check_measurement_inputs, read_measurement
 from simunc.study.catalogue import (
     GROUPS,
     QUANTITIES,
@@ -28,6 +29,7 @@ from simunc.study.catalogue import (
     CustomGroup,
     formed_groups,
     formed_outputs,
+    measurement_outputs,
     output_key,
 )
 from simunc.study.keys import (
@@ -467,6 +469,11 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
                 raise StudyError(f"uncertain[{i}].perturbs", repr(target),
                                  f"a quantity of the facility fluid ({fac.gas.name} has no {p})")
     correlation = read_correlations(data["correlations"], names) if "correlations" in data else None
+    model_length = ref_len if ref_len is not None else (
+        scale * fs.reference_length if scale is not None else None)
+    measurement = read_measurement(data["measurement"], model_length, fs.reference_length) \
+        if "measurement" in data else None
+    check_measurement_inputs(inputs, measurement)
 
     rt = Table(data.get("run", {}), "run", RUN_KEYS)
     n_sobol = rt.integer("sobol_base_samples", 4096, 64)
@@ -488,7 +495,9 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
     outputs = set.intersection(*(set(formed_outputs(
         f, fs.fluid, model_frequency=fs.frequency is not None and (
             freq is not None or "frequency" in unknowns),
-        full_scale_frequency=fs.frequency is not None, custom=[c.name for c in customs]))
+        full_scale_frequency=fs.frequency is not None, custom=[c.name for c in customs],
+        measured=() if measurement is None else measurement_outputs(
+            measurement.components, list(measurement.coefficients), measurement.tap_names)))
         for f in fac.fluids))
     requirements, sweeps, sens, design = _decisions(data, bands, inputs, outputs)
     return Study(
@@ -498,7 +507,7 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         solve_for=solve_for, unknowns=unknowns, bands=bands, inputs=inputs, run=run,
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
         correlation=correlation, requirements=requirements, sweeps=sweeps, sensitivity=sens,
-        design=design, path=path, sha256=sha256,
+        design=design, measurement=measurement, path=path, sha256=sha256,
     )
 
 

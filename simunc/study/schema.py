@@ -33,6 +33,8 @@ RequirementKind = Literal["expanded_uncertainty", "within", "conformity"]
 CostKind = Literal["power", "grades"]
 Spacing = Literal["linear", "log"]
 ShapleyMode = Literal["auto", "yes", "no"]
+ScannerReference = Literal["static", "stagnation"]
+SCANNER_REFERENCES: tuple[ScannerReference, ...] = ("static", "stagnation")
 
 DISTRIBUTIONS: dict[str, Distribution] = {"normal": "normal", "gaussian": "normal", "rectangular": "rectangular",
                  "uniform": "rectangular", "triangular": "triangular",
@@ -322,10 +324,92 @@ class InputSpec:
     controllable: bool = True
     cost: CostModel | None = None
     correction: float = 0.0
+    full_scale_fraction: float = 0.0  # accuracy: its % of full scale, and the range it is of [SI]
+    span: float = 0.0
 
     def __post_init__(self) -> None:
         if not self.targets:
             object.__setattr__(self, "targets", (self.target,))
+
+
+@dataclass(frozen=True, kw_only=True)
+class BalanceOption:
+    """A balance the allocation may choose instead of the written one (a grade with a constraint).
+
+    ``capacity``: component -> capacity [N or N m]; ``full_scale``: component -> accuracy as a
+    fraction of that capacity (the %-of-full-scale term of a datasheet), for the components
+    whose inputs are written as an ``accuracy`` with a ``full_scale`` term.
+    """
+
+    name: str
+    price: float
+    capacity: Mapping[str, float]
+    full_scale: Mapping[str, float]
+    key: str
+
+
+@dataclass(frozen=True, kw_only=True)
+class Measurement:
+    """What the test measures and how (``[measurement]``), in SI.
+
+    Geometry scales with the model: the reference area is ``area_per_length2 L^2``, the moment
+    reference length ``chord_per_length L`` and the span ``span_per_length L`` for a model of
+    reference length L, so a study whose model size is solved (or a model-scale trade) keeps them
+    geometrically similar.
+
+    Attributes
+    ----------
+    angle_of_attack : float
+        Set angle of attack [rad].
+    coefficients : mapping
+        Expected (pre-test) coefficients at the test point: ``lift``, ``drag``,
+        ``pitching_moment`` and, with a six-component balance, ``side_force``,
+        ``rolling_moment``, ``yawing_moment`` (:data:`~simunc.study.catalogue.COEFFICIENTS`).
+    balance : str
+        Name of the balance.
+    capacity : mapping
+        Balance component -> capacity [N or N m].
+    load_margin : float
+        Fraction by which the expected loads must stay below a capacity (0.25: loads at most
+        capacity / 1.25) for a balance to be a candidate.
+    transfer : float
+        Distance from the balance moment centre aft to the moment reference point [m]:
+        ``M_ref = M_balance + transfer N``.
+    taps : tuple of (name, Cp)
+        Pressure taps and their expected pressure coefficients.
+    scanner_reference : {"static", "stagnation"}
+        The pressure the scanner's differential readings are referenced to.
+    options : tuple of BalanceOption
+    """
+
+    angle_of_attack: float
+    coefficients: Mapping[str, float]
+    area_per_length2: float
+    chord_per_length: float
+    span_per_length: float
+    balance: str = ""
+    capacity: Mapping[str, float] = field(default_factory=dict)
+    load_margin: float = 0.0
+    transfer: float = 0.0
+    taps: tuple[tuple[str, float], ...] = ()
+    scanner_reference: ScannerReference = "static"
+    options: tuple[BalanceOption, ...] = ()
+    option_price: float | None = None  # price of the written balance, with options
+
+    @property
+    def components(self) -> tuple[str, ...]:
+        return tuple(self.capacity)
+
+    @property
+    def tap_names(self) -> tuple[str, ...]:
+        return tuple(name for name, _ in self.taps)
+
+    @property
+    def coefficient_outputs(self) -> tuple[str, ...]:
+        """The reduced coefficients the test measures (output keys): each force and moment
+        coefficient, then each tap's pressure coefficient."""
+        return tuple(f"{c}_coefficient" for c in self.coefficients) + tuple(
+            f"pressure_coefficient_{t}" for t in self.tap_names)
 
 
 @dataclass(frozen=True)
@@ -378,6 +462,7 @@ class Study:
     sweeps: tuple[Sweep, ...] = ()
     sensitivity: SensitivitySettings = field(default_factory=SensitivitySettings)
     design: DesignSettings = field(default_factory=DesignSettings)
+    measurement: Measurement | None = None
     path: str = ""
     sha256: str = ""
 
@@ -402,3 +487,15 @@ class Study:
     @property
     def kind(self) -> FacilityKind:
         return self.facility.kind
+
+    @property
+    def coefficient_outputs(self) -> tuple[str, ...]:
+        """:attr:`Measurement.coefficient_outputs`, none without a measurement section."""
+        return self.measurement.coefficient_outputs if self.measurement is not None else ()
+
+    def limit_of_output(self, output: str) -> float | None:
+        """The tightest absolute expanded-uncertainty or ``within`` limit a requirement puts on a
+        coefficient output (None when none does); the ranking measures shares against it."""
+        limits = [r.limit for r in self.requirements if r.output == output and not r.relative
+                  and r.kind in ("expanded_uncertainty", "within")]
+        return min(limits) if limits else None

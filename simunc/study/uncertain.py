@@ -138,8 +138,9 @@ def _coverage_factor(t: Table, dist: str, beta: float | None) -> tuple[float, fl
     return k, nu, p
 
 
-def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str]:
-    """``accuracy``: limits +-(reading x R + full_scale x range + absolute)."""
+def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str, float, float]:
+    """``accuracy``: limits +-(reading x R + full_scale x range + absolute); also the full-scale
+    fraction and the range it is of (0 and 0 without a full_scale term)."""
     if any(TARGETS[x].reading is None for x in targets):
         raise StudyError(t.key("accuracy"), t.data["accuracy"], "an accuracy only for an "
                          "instrument quantity with a reading (this size is itself a fraction: "
@@ -159,7 +160,7 @@ def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str]:
     reading, full_scale = fraction("reading"), fraction("full_scale")
     dims = {TARGETS[x].dimension for x in targets}
     words = [f"{at.data['reading']} of reading"] if at.has("reading") else []
-    fixed = 0.0
+    fixed = span = 0.0
     if at.has("full_scale"):
         at.require("range", "the instrument's full-scale range, e.g. '10 bar' or "
                    "['-1 bar', '1 bar'], needed with full_scale")
@@ -194,7 +195,7 @@ def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str]:
     if reading == 0.0 and fixed == 0.0:
         raise StudyError(at.key("reading"), at.data or "nothing", "at least one term above zero: "
                          "reading, full_scale (with range) or absolute")
-    return Parsed(reading, True), fixed, "±(" + " + ".join(words) + ")"
+    return Parsed(reading, True), fixed, "±(" + " + ".join(words) + ")", full_scale, span
 
 
 def _type_a(t: Table, size_kind: str, targets: tuple) -> tuple[Parsed, int, str]:
@@ -327,8 +328,9 @@ def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
     component = t.choice("component", {c: c for c in COMPONENTS}, default="systematic")
 
     cov_k, nu, p, limit, fixed, count = 1.0, math.inf, None, None, 0.0, None
+    full_scale = span = 0.0
     if size_kind == "accuracy":
-        size, fixed, text = _accuracy(t, targets)
+        size, fixed, text, full_scale, span = _accuracy(t, targets)
     elif size_kind in ("readings", "type_a"):
         size, count, text = _type_a(t, size_kind, targets)
         size_kind, nu = "type_a", float(count - 1)
@@ -364,7 +366,8 @@ def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
                      targets=targets, component=component, dof=nu, beta=beta, limit=limit,
                      fixed=fixed, count=count, coverage_probability=p,
                      controllable=planning.controllable(t, targets),
-                     cost=planning.cost_model(t, targets), correction=correction)
+                     cost=planning.cost_model(t, targets), correction=correction,
+                     full_scale_fraction=full_scale, span=span)
 
 
 def read_correlations(data: Any, names: list[str]) -> Correlation | None:

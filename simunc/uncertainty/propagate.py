@@ -309,9 +309,13 @@ class _OutputAccumulator:
     def finish(self, p: float, kept: np.ndarray | None) -> OutputStatistics:
         m = self.moments.total()
         u = m.std
-        if kept is not None:
-            low, high = symmetric_interval(kept, p)
-            s_low, s_high = shortest_interval(kept, p)
+        if kept is not None and self.minimum == self.maximum:  # a constant: nothing to sort
+            low = high = s_low = s_high = float(self.minimum)
+            bound = 0.0
+        elif kept is not None:  # one sort serves both intervals (the same order statistics)
+            ys = np.sort(np.asarray(kept, dtype=float).ravel())
+            low, high = symmetric_interval(ys, p, presorted=True)
+            s_low, s_high = shortest_interval(ys, p, presorted=True)
             bound = 0.0
         else:
             assert self.hist is not None  # the trials are either kept or histogrammed

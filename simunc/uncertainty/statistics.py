@@ -88,7 +88,7 @@ RANGE_MARGIN = 0.25
 # Helpers on an array of trials
 # ---------------------------------------------------------------------------
 
-def quantiles(y: np.ndarray, probabilities) -> list[float]:
+def quantiles(y: np.ndarray, probabilities, *, presorted: bool = False) -> list[float]:
     """Sample quantiles by linear interpolation between order statistics.
 
     The same values as ``numpy.quantile(y, probabilities)`` (its default
@@ -101,6 +101,8 @@ def quantiles(y: np.ndarray, probabilities) -> list[float]:
         Trials [unit of y].
     probabilities : sequence of float
         In [0, 1].
+    presorted : bool
+        ``y`` is sorted already (its order statistics are read as they are).
 
     Returns
     -------
@@ -111,13 +113,15 @@ def quantiles(y: np.ndarray, probabilities) -> list[float]:
     --------
     >>> quantiles(np.array([4.0, 1.0, 3.0, 2.0]), (0.25, 0.5))
     [1.75, 2.5]
+    >>> quantiles(np.array([1.0, 2.0, 3.0, 4.0]), (0.25, 0.5), presorted=True)
+    [1.75, 2.5]
     """
     y = np.asarray(y, dtype=float).ravel()
     n = y.size
     pos = [float(p) * (n - 1) for p in probabilities]
     lows = [int(np.floor(v)) for v in pos]
     kth = sorted({k for lo in lows for k in (lo, min(lo + 1, n - 1))})
-    part = np.partition(y, kth)
+    part = y if presorted else np.partition(y, kth)
     return [_lerp(part[lo], part[min(lo + 1, n - 1)], v - lo) for v, lo in zip(pos, lows)]
 
 
@@ -150,7 +154,8 @@ def coverage_count(m: int, p: float) -> int:
     return int(math.floor(pm + 0.5))
 
 
-def symmetric_interval(y: np.ndarray, p: float = 0.95, *, rule: str = "linear") -> tuple[float, float]:
+def symmetric_interval(y: np.ndarray, p: float = 0.95, *, rule: str = "linear",
+                       presorted: bool = False) -> tuple[float, float]:
     """Probabilistically symmetric 100p % coverage interval of the trials.
 
     ``rule="linear"`` (default): the ``(1 - p)/2`` and ``(1 + p)/2`` sample
@@ -168,6 +173,8 @@ def symmetric_interval(y: np.ndarray, p: float = 0.95, *, rule: str = "linear") 
     p : float
         Coverage probability in (0, 1) [1].
     rule : {"linear", "order"}
+    presorted : bool
+        ``y`` is sorted already.
 
     Returns
     -------
@@ -186,7 +193,7 @@ def symmetric_interval(y: np.ndarray, p: float = 0.95, *, rule: str = "linear") 
     y = np.asarray(y, dtype=float).ravel()
     if rule == "linear":
         a = 0.5 * (1.0 - p)
-        low, high = quantiles(y, (a, 1.0 - a))
+        low, high = quantiles(y, (a, 1.0 - a), presorted=presorted)
         return low, high
     if rule != "order":
         raise ValueError(f"rule must be 'linear' or 'order', got {rule!r}")
@@ -194,11 +201,12 @@ def symmetric_interval(y: np.ndarray, p: float = 0.95, *, rule: str = "linear") 
     q = min(coverage_count(m, p), m - 1)
     r = (m - q) // 2 if (m - q) % 2 == 0 else (m - q + 1) // 2
     r = max(r, 1)
-    part = np.partition(y, sorted({r - 1, r - 1 + q}))
+    part = y if presorted else np.partition(y, sorted({r - 1, r - 1 + q}))
     return float(part[r - 1]), float(part[r - 1 + q])
 
 
-def shortest_interval(y: np.ndarray, p: float = 0.95) -> tuple[float, float]:
+def shortest_interval(y: np.ndarray, p: float = 0.95, *, presorted: bool = False
+                      ) -> tuple[float, float]:
     """Shortest 100p % coverage interval of the trials (JCGM 101:2008, 7.7.2).
 
     Among the intervals ``[y_(r), y_(r+q)]``, ``r = 1 .. m - q`` (order
@@ -211,6 +219,8 @@ def shortest_interval(y: np.ndarray, p: float = 0.95) -> tuple[float, float]:
         Trials [unit of y].
     p : float
         Coverage probability in (0, 1) [1].
+    presorted : bool
+        ``y`` is sorted already.
 
     Returns
     -------
@@ -233,7 +243,8 @@ def shortest_interval(y: np.ndarray, p: float = 0.95) -> tuple[float, float]:
     (0.0, 3.0)
     """
     p = _check_probability(p)
-    ys = np.sort(np.asarray(y, dtype=float).ravel())
+    ys = np.asarray(y, dtype=float).ravel()
+    ys = ys if presorted else np.sort(ys)
     m = ys.size
     q = coverage_count(m, p)
     if q >= m:

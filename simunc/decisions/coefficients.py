@@ -1,0 +1,96 @@
+"""The measured coefficients of a run: their uncertainty, what drives it, and the balance.
+
+One stage of :func:`simunc.pipeline.run` for a study with a ``[measurement]`` section: the table
+of the reduced coefficients (Monte Carlo u, the half-length U of the symmetric coverage interval,
+drag in counts, the two inputs that drive each most by their Sobol total index), the balance
+utilisation at the set point with its warnings and notes, the pre-test pressure chart and the
+model-size trade (:mod:`simunc.decisions.pretest`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import pandas as pd
+
+from simunc.decisions.balance import LOW_UTILISATION, utilisation
+from simunc.decisions.pretest import PressureChart, pressure_chart, scale_trade
+from simunc.study.catalogue import describe_output
+from simunc.units import COUNT
+
+#: Caution on balance loads, shown beside the utilisation (the report defers to the facility).
+LOAD_CAUTION = (
+    "The loads here are the steady aerodynamic loads at the set point from the pre-test "
+    "coefficients only. Start-up and shut-down transients, buffet, model weight and support "
+    "interference add to them, and the balance and model are rated by their certified load "
+    "limits: the facility's balance rules and the responsible licensed engineers decide what "
+    "may be run.")
+
+
+@dataclass(frozen=True, kw_only=True)
+class CoefficientStage:
+    """The measured coefficients of a run (module docstring)."""
+
+    table: pd.DataFrame                 # one row per coefficient output
+    utilisation: pd.DataFrame | None    # per balance component (None without a balance)
+    warnings: tuple[str, ...]
+    notes: tuple[str, ...]
+    chart: PressureChart | None
+    trade: pd.DataFrame | None
+
+
+def coefficient_table(study, statistics: pd.DataFrame, sobol: dict[str, pd.DataFrame]
+                      ) -> pd.DataFrame:
+    """Nominal (the stated, true value), bias (mean of the reduced value less the true one: the
+    mean error of the data reduction), u, U (half-length of the probabilistically symmetric
+    interval), U in drag counts for the drag coefficient, the requirement limit and the leading
+    inputs (ST)."""
+    rows = []
+    for out in study.coefficient_outputs:
+        s = statistics.loc[out]
+        half = 0.5 * (float(s["high"]) - float(s["low"]))
+        st = sobol.get(out)
+        lead = ""
+        if st is not None and len(st):
+            top = st["ST"].clip(lower=0.0).sort_values(ascending=False)
+            lead = "; ".join(f"{name} (ST {value:.2f})" for name, value in top.iloc[:2].items()
+                             if value > 0.0)
+        limit = study.limit_of_output(out)
+        rows.append({"output": out, "quantity": describe_output(out)[1],
+                     "nominal": float(s["nominal"]),
+                     "bias": float(s["mean"]) - float(s["nominal"]),
+                     "u": float(s["standard_uncertainty"]),
+                     "U": half, "U_counts": half / COUNT if out == "drag_coefficient" else None,
+                     "limit": limit, "leading_inputs": lead})
+    return pd.DataFrame(rows, columns=["output", "quantity", "nominal", "bias", "u", "U",
+                                       "U_counts", "limit", "leading_inputs"]).set_index("output")
+
+
+def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFrame]
+                      ) -> CoefficientStage | None:
+    """:class:`CoefficientStage` of a study with a measurement section (None without one)."""
+    st = prep.study
+    m = st.measurement
+    if m is None:
+        return None
+    table = coefficient_table(st, statistics, sobol)
+    use = utilisation(m, prep.setpoint.outputs) if m.capacity else None
+    warnings, notes = [], []
+    if use is not None:
+        for _, r in use.iterrows():
+            name = str(r["component"]).replace("_", " ")
+            share = f"{100 * r['utilisation']:.0f} % of its capacity ({r['load']:.4g} of " \
+                    f"{r['capacity']:.4g})"
+            if r["status"] == "overloaded":
+                warnings.append(f"balance utilisation ({m.balance}): the expected {name} is "
+                                f"{share}: the balance is overloaded at this set point")
+            elif str(r["status"]).startswith("above"):
+                warnings.append(f"balance utilisation ({m.balance}): the expected {name} is "
+                                f"{share}, above the load margin of {100 * m.load_margin:g} %")
+            elif r["utilisation"] < LOW_UTILISATION and abs(r["load"]) > 0.0:
+                notes.append(f"The expected {name} uses {share}: below "
+                             f"{100 * LOW_UTILISATION:g} %, the balance's %-of-full-scale error "
+                             "is large against the load.")
+    return CoefficientStage(table=table, utilisation=use, warnings=tuple(warnings),
+                            notes=tuple(notes), chart=pressure_chart(prep),
+                            trade=scale_trade(prep))

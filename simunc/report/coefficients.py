@@ -1,0 +1,86 @@
+"""Report blocks of the measured coefficients: data-reduction uncertainty, balance, pre-test chart."""
+
+from __future__ import annotations
+
+import pandas as pd
+
+from simunc.decisions.coefficients import LOAD_CAUTION
+from simunc.report.blocks import Block, fmt, table
+from simunc.report.text import lit
+from simunc.units import COUNT
+
+
+def summary_lines(result) -> list[str]:
+    """Summary bullets: U of each force coefficient (drag in counts) and what drives it."""
+    c = result.coefficients
+    if c is None:
+        return []
+    p = f"{100 * result.coverage_probability:g} %"
+    lines = []
+    for out, r in c.table.iterrows():
+        if str(out).startswith("pressure_coefficient_") or r["nominal"] == 0.0:
+            continue
+        # two significant digits for an uncertainty (JCGM 100 7.2.6)
+        value = (f"{r['U_counts']:.2g} counts" if out == "drag_coefficient" else f"{r['U']:.2g}")
+        lines.append(f"{lit(out)}: U ({p}) = {value}; driven most by {lit(r['leading_inputs'])}."
+                     if r["leading_inputs"] else f"{lit(out)}: U ({p}) = {value}.")
+    return lines
+
+
+def coefficient_blocks(result) -> list[Block]:
+    c = result.coefficients
+    if c is None:
+        return []
+    st = result.study
+    m = st.measurement
+    p = f"{100 * result.coverage_probability:g} %"
+    b = [Block("heading", "Measured coefficients (data reduction)"),
+         Block("paragraph", "In every trial the true loads (the pre-test coefficients times the "
+               "true q and the true geometry, resolved to the balance axes at the true angle of "
+               "attack) are read by the balance with its errors and reduced as the data system "
+               "does: with the recorded q, the nominal geometry and the measured angle. U is the "
+               f"half-length of the probabilistically symmetric {p} coverage interval (JCGM 101); "
+               "bias is the mean of the reduced value less the true one (the data reduction's "
+               "mean error); a drag count is 0.0001 of CD.")]
+    t = c.table.reset_index()
+    drag = t["output"] == "drag_coefficient"
+    limit_counts = t["limit"].where(drag) / COUNT
+    est = result.lpu.estimates if result.lpu is not None else None
+    u_lpu = [float(est.loc[o, "standard_uncertainty"]) if est is not None and o in est.index
+             else float("nan") for o in t["output"]]
+    b.append(Block("table", table(pd.DataFrame({
+        "output": t["output"], "nominal": t["nominal"], "bias": t["bias"], "u": t["u"],
+        "u (LPU)": u_lpu,
+        f"U ({p})": t["U"], "U [counts]": t["U_counts"],
+        "requirement (U)": t["limit"].where(~drag), "requirement [counts]": limit_counts,
+        "leading inputs (Sobol ST)": t["leading_inputs"]}))))
+    if result.lpu is not None:
+        for out in [o for o in t["output"] if st.limit_of_output(o) is not None
+                    and o in result.lpu.budgets]:
+            bud = result.lpu.budget(out).reset_index()
+            b.append(Block("paragraph", f"Uncertainty budget of **{lit(out)}** (LPU, JCGM 100):"))
+            b.append(Block("table", table(bud[["term", "sensitivity", "standard_uncertainty",
+                                               "contribution", "share_percent"]])))
+    if c.utilisation is not None:
+        b.append(Block("paragraph", f"Balance utilisation at the set point ({lit(m.balance)}, "
+                       f"load margin {100 * m.load_margin:g} %):"))
+        u = c.utilisation
+        b.append(Block("table", table(pd.DataFrame({
+            "component": u["component"], "expected load": u["load"], "capacity": u["capacity"],
+            "utilisation [%]": 100 * u["utilisation"], "status": u["status"]}))))
+        b.append(Block("bullets", [lit(n) for n in c.notes] + [LOAD_CAUTION]))
+    a = result.allocation
+    if a is not None and m.options:
+        b.append(Block("paragraph", f"Balance chosen by the allocation: {lit(a.balance) or 'none'}"
+                       + (". Not candidates (capacity with the margin): "
+                          + "; ".join(lit(x) for x in a.excluded_balances)
+                          if a.excluded_balances else "") + "."))
+    if c.chart is not None:
+        b.append(Block("figure", "pretest_chart.png", caption=(
+            f"Pre-test chart: U ({p}, {c.chart.trials} trials on common random numbers) of the "
+            "drag and lift coefficients against the dynamic pressure, for each balance.")))
+    if c.trade is not None:
+        b.append(Block("paragraph", f"Model-size trade (the set point solved again for each "
+                       f"size; U ({p}) on common random numbers):"))
+        b.append(Block("table", table(c.trade)))
+    return b

@@ -1,0 +1,219 @@
+"""``[measurement]``: what the test measures and with what (balance, attitude, pressure taps).
+
+Read once, here, into :class:`~simunc.study.schema.Measurement` (SI); the model's data reduction
+(:mod:`simunc.similitude.model`) and the balance decisions (:mod:`simunc.decisions.balance`) use
+it.  docs/study-file.md lists every key.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import Any
+
+from simunc.errors import GIVEN_LIMIT, StudyError, plain
+from simunc.study.catalogue import BALANCE_COMPONENTS, COEFFICIENTS, MEASUREMENT_TARGETS
+from simunc.study.schema import SCANNER_REFERENCES, BalanceOption, InputSpec, Measurement
+from simunc.study.table import Table
+
+MEASUREMENT_KEYS = ("angle_of_attack", "reference_area", "full_scale_reference_area",
+                    "reference_length", "reference_span", "scanner_reference", "balance",
+                    "balance_option", "tap") + tuple(f"{c}_coefficient" for c in COEFFICIENTS)
+BALANCE_KEYS = ("name", "load_margin", "moment_transfer", "price") + tuple(BALANCE_COMPONENTS)
+OPTION_KEYS = ("name", "price", "capacity", "full_scale")
+TAP_KEYS = ("name", "pressure_coefficient")
+
+#: Largest angle of attack read (the reduction resolves loads through it; a model beyond this
+#: is a high-alpha test that this point analysis does not describe).
+MAX_ALPHA_DEG = 45.0
+_TAP_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]{0,39}$")
+
+
+def read_measurement(data: Any, model_length: float | None, full_scale_length: float
+                     ) -> Measurement:
+    """``[measurement]`` -> :class:`Measurement`.
+
+    ``model_length``: the model reference length written in ``[model]`` [m] (None when the
+    model size is solved); ``full_scale_length``: the full-scale reference length [m].
+    """
+    t = Table(data, "measurement", MEASUREMENT_KEYS)
+    alpha = t.quantity("angle_of_attack", "angle", positive=False, default=0.0)
+    if abs(math.degrees(alpha)) > MAX_ALPHA_DEG:
+        raise StudyError(t.key("angle_of_attack"), t.data["angle_of_attack"],
+                         f"an angle of attack within +-{MAX_ALPHA_DEG:g} deg")
+    how = t.exclusive(("reference_area", "full_scale_reference_area"), required=False)
+    if how == "reference_area":
+        if model_length is None:
+            raise StudyError(t.key("reference_area"), t.data["reference_area"],
+                             "full_scale_reference_area when the model size is solved (the "
+                             "model's area then scales with it)")
+        area = t.quantity("reference_area", "area") / model_length ** 2
+    elif how == "full_scale_reference_area":
+        area = t.quantity("full_scale_reference_area", "area") / full_scale_length ** 2
+    else:
+        area = math.nan
+    chord = span = 1.0
+    for name in ("reference_length", "reference_span"):
+        if t.has(name):
+            if model_length is None:
+                raise StudyError(t.key(name), t.data[name], "no model length here when the "
+                                 "model size is solved (give the model size in [model])")
+            value = t.quantity(name, "length") / model_length
+            chord, span = (value, span) if name == "reference_length" else (chord, value)
+    balance = Table(t.data.get("balance", {}), t.key("balance"), BALANCE_KEYS)
+    capacity = {c: balance.quantity(c, BALANCE_COMPONENTS[c][0]) for c in BALANCE_COMPONENTS
+                if balance.has(c)}
+    if t.has("balance") and not capacity:
+        raise StudyError(t.key("balance"), "no component", "the capacity of each balance "
+                         "component, e.g. normal_force = '8 kN', axial_force = '400 N', "
+                         "pitching_moment = '300 N*m'")
+    longitudinal = [c for c in ("normal_force", "axial_force", "pitching_moment") if c in capacity]
+    if longitudinal and not {"normal_force", "axial_force"} <= set(capacity):
+        missing = "axial_force" if "normal_force" in capacity else "normal_force"
+        balance.require(missing, "the normal and axial forces give the lift and drag that every "
+                        "longitudinal component's load follows from")
+    coefficients = {}
+    for name, (needs, _) in COEFFICIENTS.items():
+        key = f"{name}_coefficient"
+        if not all(c in capacity for c in needs):
+            if t.has(key):
+                absent = [c for c in needs if c not in capacity]
+                raise StudyError(t.key(key), t.data[key], "a coefficient the balance measures "
+                                 f"(it needs {' and '.join(absent)} in [measurement.balance])")
+            continue
+        lateral = name in ("side_force", "rolling_moment", "yawing_moment")
+        coefficients[name] = t.number(key, default=0.0 if lateral else None,
+                                      low=-10.0, high=10.0, what="a coefficient within +-10")
+    if capacity and math.isnan(area):
+        t.require("reference_area", "the model's reference area S of the coefficients (or "
+                  "full_scale_reference_area)")
+    if any(c in capacity for c in ("rolling_moment", "yawing_moment")) and not t.has(
+            "reference_span"):
+        t.require("reference_span", "the reference span b of the rolling and yawing moments")
+    taps = _taps(t)
+    if taps and math.isnan(area):
+        area = 1.0  # unused: pressure coefficients need no area
+    options, price = _options(t, balance, capacity)
+    return Measurement(
+        angle_of_attack=alpha, coefficients=coefficients, area_per_length2=area,
+        chord_per_length=chord, span_per_length=span,
+        balance=balance.text("name", "balance") if capacity else "",
+        capacity=capacity,
+        load_margin=balance.number("load_margin", default=0.0, low=0.0, high=10.0,
+                                   allow_percent=True, what="a margin such as '25 %'"),
+        transfer=balance.quantity("moment_transfer", "length", positive=False, default=0.0),
+        taps=taps,
+        scanner_reference=t.choice("scanner_reference", SCANNER_REFERENCES, default="static"),
+        options=options, option_price=price)
+
+
+def _taps(t: Table) -> tuple[tuple[str, float], ...]:
+    raw = t.data.get("tap", [])
+    if not isinstance(raw, list):
+        raise StudyError(t.key("tap"), raw, "an array of tables ([[measurement.tap]] entries)")
+    taps: list[tuple[str, float]] = []
+    for i, d in enumerate(raw):
+        tt = Table(d, f"{t.key('tap')}[{i}]", TAP_KEYS)
+        name = tt.text("name")
+        if not _TAP_NAME.match(name):
+            raise StudyError(tt.key("name"), repr(plain(name, GIVEN_LIMIT)),
+                             "a tap name of letters, digits and underscores, starting with a "
+                             "letter, at most 40 characters (it names the output "
+                             "pressure_coefficient_<name>)")
+        if name in [n for n, _ in taps]:
+            raise StudyError(tt.key("name"), repr(name), "a name not used by another tap")
+        taps.append((name, tt.number("pressure_coefficient", low=-100.0, high=1.0,
+                                     what="a pressure coefficient between -100 and 1 (at most "
+                                          "1, the stagnation value)")))
+    return tuple(taps)
+
+
+def _options(t: Table, balance: Table, capacity: dict) -> tuple[tuple[BalanceOption, ...],
+                                                               float | None]:
+    raw = t.data.get("balance_option", [])
+    if not isinstance(raw, list):
+        raise StudyError(t.key("balance_option"), raw,
+                         "an array of tables ([[measurement.balance_option]] entries)")
+    if not raw:
+        if balance.has("price"):
+            raise StudyError(balance.key("price"), balance.data["price"], "a price only with "
+                             "[[measurement.balance_option]] candidates to compare it with")
+        return (), None
+    if not capacity:
+        t.require("balance", "the written balance, whose components the options replace")
+    balance.require("price", "the price of the written balance, which the allocation compares "
+                    "with the balance options' prices (0 for the facility's own)")
+    price = balance.number("price", low=0.0, what="the price of the written balance (a number "
+                                                  "of zero or more)")
+    options: list[BalanceOption] = []
+    for i, d in enumerate(raw):
+        ot = Table(d, f"{t.key('balance_option')}[{i}]", OPTION_KEYS)
+        name = ot.text("name")
+        if name in [o.name for o in options] or name == balance.text("name", "balance"):
+            raise StudyError(ot.key("name"), repr(plain(name, GIVEN_LIMIT)),
+                             "a name not used by the balance or another option")
+        ct = Table(ot.require("capacity", "the option's capacity of every component of the "
+                              "written balance"), ot.key("capacity"), tuple(BALANCE_COMPONENTS))
+        ft = Table(ot.data.get("full_scale", {}), ot.key("full_scale"), tuple(BALANCE_COMPONENTS))
+        for table in (ct, ft):
+            extra = [c for c in table.data if c not in capacity]
+            if extra:
+                raise StudyError(table.key(extra[0]), table.data[extra[0]], "a component of "
+                                 "the written balance: " + ", ".join(capacity),
+                                 f"[measurement.balance] has no {extra[0]}")
+        cap = {c: ct.quantity(c, BALANCE_COMPONENTS[c][0], why="every component of the written "
+                              "balance") for c in capacity}
+        fs = {c: ft.number(c, low=0.0, low_open=True, allow_percent=True,
+                           what="an accuracy in % of full scale above zero, e.g. '0.05 %'")
+              for c in capacity if ft.has(c)}
+        options.append(BalanceOption(name=name, price=ot.number(
+            "price", low=0.0, what="a price of zero or more"), capacity=cap, full_scale=fs,
+            key=ot.prefix))
+    return tuple(options), price
+
+
+def check_measurement_inputs(inputs: tuple[InputSpec, ...], m: Measurement | None) -> None:
+    """Inputs on the measuring chain need the part of [measurement] they act on; with balance
+    options the other costed inputs are grades (the balance is a grade choice) and the balance's
+    own inputs have no cost model (the options set them)."""
+    for i, spec in enumerate(inputs):
+        if m is None or not m.options or spec.cost is None:
+            continue
+        if spec.target.endswith("_indication") and spec.target[:-11] in m.capacity:
+            raise StudyError(f"uncertain[{i}].{'grades' if spec.cost.kind == 'grades' else 'cost'}",
+                             "a cost model on a balance input", "none: the "
+                             "[[measurement.balance_option]] tables are the choices for the "
+                             "balance's inputs")
+        if spec.cost.kind == "power":
+            raise StudyError(f"uncertain[{i}].cost", "a continuous cost with balance options",
+                             "grades: the balance is a choice among grades, so every costed "
+                             "input chooses among grades too")
+    for i, spec in enumerate(inputs):
+        for j, target in enumerate(spec.targets):
+            if target not in MEASUREMENT_TARGETS:
+                continue
+            key = f"uncertain[{i}].perturbs" + (f"[{j}]" if len(spec.targets) > 1 else "")
+            needs = None
+            if m is None:
+                needs = "a [measurement] section"
+            elif target.endswith("_indication") and target[:-11] in BALANCE_COMPONENTS:
+                if target[:-11] not in m.capacity:
+                    needs = f"a {target[:-11].replace('_', ' ')} component in [measurement.balance]"
+            elif target == "axial_force_interaction" and not {"normal_force", "axial_force"} <= \
+                    set(m.capacity):
+                needs = "normal_force and axial_force in [measurement.balance]"
+            elif target == "moment_transfer_distance" and not {"normal_force",
+                                                               "pitching_moment"} <= set(m.capacity):
+                needs = "normal_force and pitching_moment in [measurement.balance]"
+            elif target == "pressure_scanner_indication" and not m.taps:
+                needs = "pressure taps ([[measurement.tap]])"
+            elif target in ("attitude_indication", "flow_angularity") and not m.capacity:
+                needs = "a balance (the angle of attack enters the balance's axis resolution)"
+            if needs:
+                raise StudyError(key, repr(target), f"a quantity this study measures: it needs "
+                                 f"{needs}")
+            if spec.correction:
+                raise StudyError(f"uncertain[{i}].correction", spec.correction,
+                                 "no known correction on the measuring chain: the data reduction "
+                                 "applies the balance, attitude, upflow and scanner calibrations, "
+                                 "so state the uncertainty left after them")

@@ -41,6 +41,7 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
     "force": ("[force]", "N", "'8 kN'"),
     "moment": ("[force] * [length]", "N*m", "'450 N*m'"),
     "angle": ("", "rad", "'2.5 deg'"),
+    "per_angle": ("", "1/rad", "'0.105 1/deg' or '6.0 1/rad'"),
     "dimensionless": ("", "", "'0.78' or '2 %'"),
 }
 
@@ -152,9 +153,11 @@ def parse(key: str, text: object, dimension: str, *, allow_relative: bool = Fals
             bare.group(2).strip().lower()):
         raise StudyError(key, text, f"{'an' if noun[0] in 'aeiou' else 'a'} {noun} such as "
                          f"{example}", "a drag count (0.0001) is for a coefficient only")
-    if dimension == "angle" and not isinstance(text, bool) and (
+    if dimension in ("angle", "per_angle") and not isinstance(text, bool) and (
             isinstance(text, (int, float)) or (bare is not None and not bare.group(2))):
-        raise StudyError(key, text, f"an angle with its unit such as {example} or '0.04 rad'")
+        raise StudyError(key, text, f"an angle with its unit such as {example} or '0.04 rad'"
+                         if dimension == "angle" else f"a slope per angle with its unit such as "
+                         f"{example}")
     expected = f"{'an' if noun[0] in 'aeiou' else 'a'} {noun} such as {example}"
     if allow_relative:
         expected += " or a percentage of reading such as '0.05 %'"

@@ -565,6 +565,38 @@ def test_written_balance_is_as_written_when_the_range_is_not_the_capacity(tmp_pa
                                                                         rel=1e-12)
 
 
+def test_lift_curve_slope_gives_the_error_at_the_measured_angle():
+    # With dCL/dalpha = a stated, the true lift at the true angle alpha_set - da is CL - a da; the
+    # data system rotates the true loads by da (Anderson eqs. 1.1-1.2), so
+    # CL_red = (CL - a da) cos da - CD sin da: against CL at the set (measured) angle the error is
+    # -(a + CD) da to first order, where without the slope it is only -CD da. Likewise
+    # Cm_red = Cm - b da for dCm/dalpha = b (the moment needs no rotation).
+    a, b = 6.0, -0.9                      # per radian: "6.0 1/rad" and "-0.9 1/rad"
+    model, x, _ = model_at_setpoint(study_dict(angle_of_attack="3 deg",
+                                               lift_curve_slope="6.0 1/rad",
+                                               pitching_moment_slope="-0.9 1/rad"))
+    da = math.radians(0.05)
+    y = model({**x, "attitude_indication": da})
+    assert float(y["lift_coefficient"]) == pytest.approx(
+        (CL - a * da) * math.cos(da) - CD * math.sin(da), rel=1e-9)
+    assert float(y["pitching_moment_coefficient"]) == pytest.approx(CM - b * da, rel=1e-9)
+    # the slope in degrees reads the same (0.10472 per degree = 6.0 per radian)
+    assert parse("k", "0.1047198 1/deg", "per_angle").value == pytest.approx(6.0, rel=1e-6)
+
+
+def test_density_model_error_keeps_q_of_a_gas_set_by_p0_and_mach():
+    # A gas set by p0, T0 and M: q = gamma/2 p M^2 (NACA 1135) does not depend on the density
+    # model, and Re = rho U L / mu with U = M a and a^2 = gamma p / rho goes as sqrt(rho): a
+    # density-model error of 1 % moves Re by sqrt(1.01) - 1 and q by nothing.
+    model, x, _ = model_at_setpoint(study_dict())
+    y0 = model(x)
+    y = model({**x, "density_model": 0.01})
+    assert float(y["dynamic_pressure"]) == pytest.approx(float(y0["dynamic_pressure"]), rel=1e-12)
+    assert float(y["reynolds_model"]) / float(y0["reynolds_model"]) == pytest.approx(
+        math.sqrt(1.01), rel=1e-12)
+    assert float(y["drag_coefficient"]) == pytest.approx(CD, rel=1e-12)
+
+
 # ---------------------------------------------------------------------------
 # 8. Study parsing
 # ---------------------------------------------------------------------------

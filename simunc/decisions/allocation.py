@@ -314,7 +314,7 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
     largest = st.design.largest_scale
     kind = "grades" if balance is not None else inputs[idx[0]].spec.cost.kind
     base = design.ones()
-    rounds, message, grades, note = 0, "", {}, ""
+    rounds, message, grades, note, chosen_balance = 0, "", {}, "", ""
     if kind == "power":
         sur.calibrate(base)
         best = None
@@ -385,6 +385,8 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
                 scale, cost = scales[m].copy(), float(prices[m])
                 grades = {inputs[j].name: options[k][combos[m, k]][0]
                           for k, (js, _) in enumerate(groups) for j in js}
+                if balance is not None:  # the last group (it may act on no input)
+                    chosen_balance = options[-1][combos[m, -1]][0]
                 break
             if checked >= MAX_CHECKS:
                 break
@@ -420,9 +422,7 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
         if ok and not message else ()
     return Allocation(kind, scale, cost, cost_written, grades, table, design_checks, verification,
                       loosened, vd.trials if vd else 0, vd.seed if vd else 0, rounds, message,
-                      note, excursions,
-                      balance=next((grades[inputs[j].name] for j in balance.indices
-                                    if inputs[j].name in grades), "") if balance else "",
+                      note, excursions, balance=chosen_balance,
                       excluded_balances=balance.excluded if balance else ())
 
 

@@ -10,12 +10,19 @@
   margin (a balance that does not is no candidate), each with the tolerance scale it gives
   every balance input.
 
-A candidate's accuracy: an input written as a datasheet ``accuracy`` with a ``full_scale``
-term keeps its %-of-reading and absolute terms and takes the option's %-of-full-scale (the
-written one when the option states none) of its range scaled by the ratio of the capacities
-(the written range, one- or two-sided, on the written balance); an input written in any other
-form scales with the capacity (an error proportional to the full scale).  The written balance
-is its inputs as written: scale 1.
+A candidate's accuracy, for the input on each of its components (by that input's first target):
+
+* written as a datasheet ``accuracy``: its %-of-reading and absolute terms stay; its
+  %-of-full-scale term becomes the option's %-of-full-scale (the written one when the option
+  states none) of the written range scaled by the ratio of the capacities (a range written
+  one- or two-sided stays so), or of the option's capacity when the input has no full-scale
+  term;
+* written in another form with a size in % of reading: unchanged (an error proportional to
+  the load, not to the range);
+* written in another form in units of the load: scaled by the ratio of the capacities (an
+  error proportional to the full scale).
+
+The written balance is its inputs as written: scale 1.
 """
 
 from __future__ import annotations
@@ -100,12 +107,14 @@ def balance_spec(inp: UncertainInput, m: Measurement, capacity: Mapping[str, flo
     component = inp.target[:-11]
     spec = inp.spec
     ratio = capacity[component] / m.capacity[component]
-    if spec.size_kind == "accuracy" and spec.full_scale_fraction > 0.0:
+    if spec.size_kind == "accuracy":
         # the range as written (one- or two-sided) scaled with the capacity
         fraction = full_scale.get(component, spec.full_scale_fraction)
-        span = spec.span * ratio
+        span = spec.span * ratio if spec.span > 0.0 else capacity[component]
         return replace(spec, fixed=spec.fixed - spec.full_scale_fraction * spec.span
                        + fraction * span, full_scale_fraction=fraction, span=span)
+    if spec.size.relative:
+        return spec
     return replace(spec, size=Parsed(spec.size.value * ratio, spec.size.relative),
                    fixed=spec.fixed * ratio,
                    limit=None if spec.limit is None else Parsed(spec.limit.value * ratio,

@@ -31,9 +31,8 @@ import pandas as pd
 
 from simunc.decisions.balance import balance_spec, carries, utilisation
 from simunc.decisions.design import stream_seed
-from simunc.similitude.inputs import UncertainInput, similitude_problem, standard_uncertainty
+from simunc.similitude.inputs import UncertainInput, build_inputs, similitude_problem
 from simunc.similitude.setpoint import SetPoint, largest_model, solve
-from simunc.study.catalogue import TARGETS
 from simunc.uncertainty.sampling import InputSampler
 from simunc.uncertainty.statistics import symmetric_interval
 from simunc.units import COUNT
@@ -58,7 +57,8 @@ class PressureChart:
     ``values``: its points; ``dynamic_pressure``: q at each [Pa]; ``expanded``: balance name ->
     output -> U per point; ``carries``: balance name -> whether it carries the expected loads
     with its margin, per point; ``setpoint`` and ``setpoint_q``: the set point's value of the
-    axis and its q; ``balance``: the written balance; ``probability``: of U.
+    axis and its q; ``balance``: the written balance; ``probability``: output -> p of its U
+    (the requirement's on it, else the run's).
     """
 
     axis: str
@@ -69,7 +69,7 @@ class PressureChart:
     setpoint: float
     setpoint_q: float
     balance: str
-    probability: float
+    probability: dict[str, float]
     trials: int
     seed: int
 
@@ -82,24 +82,31 @@ def _sample(prep, trials: int) -> tuple[np.ndarray, int]:
     return x, seed
 
 
-def _u(inp: UncertainInput, outputs, spec=None) -> float:
-    """Standard uncertainty of an input (or of another spec of it) at the readings ``outputs``."""
-    key = TARGETS[inp.target].reading
-    reading = float(np.asarray(outputs[key])) if key else None
-    return standard_uncertainty(spec or inp.spec, reading)
+def _inputs_at(prep, outputs, balance=None) -> list[UncertainInput]:
+    """The study's inputs resolved at the readings ``outputs`` (on the balance ``(name,
+    capacity, full_scale)``): sizes in % of reading, shared-error factors and balance
+    accuracies as they are there."""
+    m = prep.study.measurement
+    specs = [balance_spec(inp, m, balance[1], balance[2])
+             if balance is not None and inp.target.endswith("_indication")
+             and inp.target[:-11] in balance[1] else inp.spec for inp in prep.inputs]
+    return build_inputs(specs, replace(prep.setpoint, outputs=outputs))
 
 
-def _ratios(inputs, outputs, m=None, balance=None) -> np.ndarray:
-    """u at ``outputs`` (on the balance ``(name, capacity, full_scale)`` of the measurement
-    ``m``) over u as run."""
-    out = []
-    for inp in inputs:
-        spec = inp.spec
-        if balance is not None and inp.target.endswith("_indication") and \
-                inp.target[:-11] in balance[1]:
-            spec = balance_spec(inp, m, balance[1], balance[2])
-        out.append(_u(inp, outputs, spec) / inp.standard_uncertainty)
-    return np.array(out)
+def _moved(x: np.ndarray, old, new) -> np.ndarray:
+    """The common-random-number sample of the inputs ``old`` carried to the inputs ``new``: each
+    column multiplied by the ratio of the standard uncertainties (exact for the location-scale
+    families of mean zero: normal, t, the bounded ones, the lognormal e = R (F - 1)); a
+    truncated normal, whose shape moves when its sigma and limit scale differently, through
+    its probability integral transform."""
+    out = np.empty_like(x)
+    for j, (a, b) in enumerate(zip(old, new)):
+        if a.kind == "truncated_normal":
+            u = np.clip(a.distribution.cdf(x[:, j]), 0.0, 1.0)
+            out[:, j] = b.distribution.ppf(u)
+        else:
+            out[:, j] = x[:, j] * (b.standard_uncertainty / a.standard_uncertainty)
+    return out
 
 
 def _balances(m) -> list[tuple[str, dict, dict]]:
@@ -107,12 +114,25 @@ def _balances(m) -> list[tuple[str, dict, dict]]:
                                                   for o in m.options]
 
 
-def _spread(problem, x: np.ndarray, outputs, p: float) -> dict[str, float]:
-    """U_p of each output: the half-length of its probabilistically symmetric p interval."""
-    y = problem.evaluate(x)
+def probabilities(study, outputs) -> dict[str, float]:
+    """p of U for each output: that of the requirement on it, else the run's."""
     out = {}
     for o in outputs:
-        low, high = symmetric_interval(np.asarray(y[o]), p)
+        r = study.requirement_on(o)
+        out[o] = r.probability if r is not None and r.probability > 0.0 \
+            else study.run.coverage_probability
+    return out
+
+
+def _spread(model, setpoint, nominal, inputs, x: np.ndarray, p: dict[str, float]
+            ) -> dict[str, float]:
+    """U_p of each output of ``p`` at the state ``nominal`` with ``inputs`` drawn as ``x``: the
+    half-length of its probabilistically symmetric p interval."""
+    problem = similitude_problem(model, replace(setpoint, nominal=nominal), list(inputs))
+    y = problem.evaluate(x)
+    out = {}
+    for o, prob in p.items():
+        low, high = symmetric_interval(np.asarray(y[o]), prob)
         out[o] = 0.5 * (high - low)
     return out
 
@@ -141,17 +161,17 @@ def pressure_chart(prep, *, points: int = CHART_POINTS, trials: int = PRETEST_TR
     states = {**nominal, axis: grid}
     y0 = model(states)
     x, seed = _sample(prep, trials)
-    p = prep.settings.coverage_probability
+    p = probabilities(st, outs)
     balances = _balances(m)
     expanded: dict[str, dict[str, np.ndarray]] = {b[0]: {o: np.empty(points) for o in outs}
                                                   for b in balances}
     fits: dict[str, np.ndarray] = {b[0]: np.empty(points, dtype=bool) for b in balances}
     for i, g in enumerate(grid):
-        at = {k: np.asarray(v)[i] for k, v in y0.items()}
-        problem = similitude_problem(model, replace(sp, nominal={**nominal, axis: float(g)}),
-                                     list(prep.inputs))
+        at = {k: float(np.asarray(v)[i]) for k, v in y0.items()}
         for b in balances:
-            spread = _spread(problem, x * _ratios(prep.inputs, at, m, b)[None, :], outs, p)
+            new = _inputs_at(prep, at, b)
+            spread = _spread(model, sp, {**nominal, axis: float(g)}, new,
+                             _moved(x, prep.inputs, new), p)
             for o in outs:
                 expanded[b[0]][o][i] = spread[o]
             fits[b[0]][i] = carries(m, at, b[1])
@@ -189,9 +209,9 @@ def scale_trade(prep, *, factors=SCALE_FACTORS, trials: int = PRETEST_TRIALS
                         unknowns=tuple(u for u in st.unknowns if u != "model_length"))
         other: SetPoint = sp if length == length0 else solve(sized, prep.model)
         out = other.outputs
-        problem = similitude_problem(prep.model, other, list(prep.inputs))
-        spread = _spread(problem, x * _ratios(prep.inputs, out)[None, :], outs,
-                         prep.settings.coverage_probability)
+        new = _inputs_at(prep, out)
+        spread = _spread(prep.model, other, other.nominal, new, _moved(x, prep.inputs, new),
+                         probabilities(st, outs))
         blockage = (fs.frontal_area * (length / fs.reference_length) ** 2 / fac.test_section_area
                     if fs.frontal_area and fac.test_section_area else math.nan)
         use = utilisation(m, out)

@@ -77,8 +77,9 @@ def coefficient_blocks(result) -> list[Block]:
                           if a.excluded_balances else "") + "."))
     if c.chart is not None:
         b.append(Block("figure", "pretest_chart.png", caption=(
-            f"Pre-test chart: U ({p}, {c.chart.trials} trials on common random numbers) of the "
-            "drag and lift coefficients against the dynamic pressure, for each balance.")))
+            f"Pre-test chart: U ({c.chart.trials} trials on common random numbers; at the "
+            "probability of the requirement on the coefficient, else the run's) of the drag and "
+            "lift coefficients against the dynamic pressure, for each balance.")))
     if c.trade is not None:
         b.append(Block("paragraph", f"Model-size trade (the set point solved again for each "
                        f"size; U ({p}) on common random numbers):"))

@@ -39,7 +39,10 @@ def sensitivity_blocks(result) -> list[Block]:
         if len(corr):
             b.append(Block("paragraph", "Correlation terms of the budget: " + "; ".join(
                 f"{lit(k)}: {fmt(v)} %" for k, v in corr["share_percent"].items()) + "."))
-    b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups."))
+    b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups"
+                   + (" and of the measured coefficients a requirement limits."
+                      if any(st.limit_of_output(o) is not None for o in st.coefficient_outputs)
+                      else ".")))
     if sr is not None and sr.second_order is not None:
         b.append(Block("paragraph", "Second-order indices S2 (interactions of two inputs):"))
         for out, t in sr.second_order.items():

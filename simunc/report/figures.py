@@ -218,7 +218,7 @@ def pretest_chart(result) -> bytes:
             ax.axhline(limit * factor, color="black", lw=0.9, ls="--", label="requirement")
         ax.axvline(c.setpoint_q / 1e3, color="#555555", lw=0.8, label="set point")
         ax.set_xlabel(f"dynamic pressure q [kPa] ({swept})")
-        p = f"{100 * c.probability:g} %"
+        p = f"{100 * c.probability[out]:g} %"
         ax.set_ylabel(f"U ({p}) of CD [counts]" if factor != 1.0 else f"U ({p}) of CL")
         ax.set_ylim(bottom=0.0)
         ax.grid(alpha=0.3)

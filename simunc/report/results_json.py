@@ -212,7 +212,7 @@ def _coefficients(c):
                          for name, d in chart.expanded.items()},
             "carries": {name: [bool(v) for v in arr] for name, arr in chart.carries.items()},
             "setpoint": chart.setpoint, "setpoint_q": chart.setpoint_q, "balance": chart.balance,
-            "probability": chart.probability, "trials": chart.trials, "seed": chart.seed},
+            "probability": dict(chart.probability), "trials": chart.trials, "seed": chart.seed},
         "scale_trade": None if c.trade is None else c.trade.to_dict(orient="records"),
     }
 

@@ -128,7 +128,7 @@ class SimilitudeModel:
             else:
                 mach = mach_set + mach_dev
             p, t = f.static_state(p0, t0, mach, **params)
-            a = f.speed_of_sound(p, t, **params)
+            a = f.speed_of_sound(p, t, **params) * _sound_factor(d("density_model"))
             speed = mach * a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
             # What the data system records: the indicated p0 and T0 and the Mach number set from
@@ -148,7 +148,7 @@ class SimilitudeModel:
                  + d("temperature_control"))
             p = flow.hydrostatic_pressure(p_surface, f.density(p_surface, t, **params), depth,
                                           STANDARD_GRAVITY)
-            a = f.speed_of_sound(p, t, **params)
+            a = f.speed_of_sound(p, t, **params) * _sound_factor(d("density_model"))
             mach = speed / a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
             p0 = p + flow.kinetic_pressure(rho, speed)
@@ -173,7 +173,7 @@ class SimilitudeModel:
         params = {k: v for k, v in facility_params.items() if fg is self.fluid}
         t = np.asarray(x["full_scale_static_temperature"], dtype=float) + d("full_scale_temperature")
         p = np.asarray(x["full_scale_static_pressure"], dtype=float)
-        a = fg.speed_of_sound(p, t, **params)
+        a = fg.speed_of_sound(p, t, **params) * _sound_factor(d("full_scale_density_model"))
         given = np.asarray(x["full_scale_speed_or_mach"], dtype=float)
         if self.full_scale_given == "mach":
             mach = given + d("full_scale_mach") + d("full_scale_speed") / a
@@ -229,7 +229,9 @@ class SimilitudeModel:
         alpha = alpha_set - d("attitude_indication") + d("flow_angularity")
         out = {"angle_of_attack": alpha, "angle_of_attack_error": alpha_set - alpha,
                "reference_area": area}
-        c = m.coefficients
+        c = dict(m.coefficients)
+        for name, slope in m.slopes.items():  # the coefficient at the true angle
+            c[name] = c[name] + slope * (alpha - alpha_set)
         qs, qs_rec = q * area, q_rec * area_nom
         true: dict[str, np.ndarray] = {}
         read: dict[str, np.ndarray] = {}
@@ -248,13 +250,14 @@ class SimilitudeModel:
                            + m.transfer * read.get("normal_force", 0.0))
             out["pitching_moment_coefficient"] = reduction.moment_coefficient(
                 reduced_ref, q_rec, area_nom, chord_nom)
-        for name, ref_true, ref_nom in (("side_force", 1.0, 1.0),
-                                        ("rolling_moment", span_nom * scale, span_nom),
-                                        ("yawing_moment", span_nom * scale, span_nom)):
+        # Lateral components in body axes about the moment reference point; the chord's
+        # manufacturing deviation does not move the span.
+        for name, ref in (("side_force", 1.0), ("rolling_moment", span_nom),
+                          ("yawing_moment", span_nom)):
             if name in m.capacity:
-                true[name] = c[name] * qs * ref_true
+                true[name] = c[name] * qs * ref
                 out[f"{name}_coefficient"] = (true[name] + d(f"{name}_indication")) / (
-                    qs_rec * ref_nom)
+                    qs_rec * ref)
         if "lift" in c and "drag" in c:
             lift, drag = reduction.body_to_wind(read["normal_force"], read["axial_force"],
                                                 alpha_set)
@@ -364,6 +367,18 @@ class SimilitudeModel:
         arrays = {k: np.asarray(v, dtype=float) for k, v in out.items()}
         shape = np.broadcast_shapes(*(v.shape for v in arrays.values()))
         return {k: np.broadcast_to(v, shape) for k, v in arrays.items()}
+
+
+def _sound_factor(e):
+    """Speed-of-sound factor ``(1 + e)^(-1/2)`` of a density-model error ``e`` (rho = rho_model
+    (1 + e)) at the same pressure: ``a^2 = gamma p / rho`` for a gas (``K / rho`` for a liquid), so
+    a gas set by p0, T0 and M keeps ``q = rho U^2 / 2 = gamma/2 p M^2`` and the Reynolds number
+    moves by ``e / 2``, not ``e``.
+
+    >>> round(float(_sound_factor(0.01)) ** 2 * 1.01, 12)
+    1.0
+    """
+    return 1.0 if isinstance(e, float) and e == 0.0 else 1.0 / np.sqrt(1.0 + e)
 
 
 #: Outputs that a physical trial has above zero.

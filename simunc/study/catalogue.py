@@ -87,12 +87,14 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
     Target("viscosity_model", "dimensionless", None,
            "relative error of the viscosity model at the facility state (mu = mu_model (1 + e))"),
     Target("density_model", "dimensionless", None,
-           "relative error of the density model at the facility state (rho = rho_model (1 + e))"),
+           "relative error of the density model at the facility state (rho = rho_model (1 + e); "
+           "the speed of sound follows as (1 + e)^-1/2 at the same pressure)"),
     Target("full_scale_viscosity_model", "dimensionless", None,
            "relative error of the viscosity model at the full-scale state (mu = mu_model (1 + e)); "
            "with viscosity_model in one perturbs list, one error common to both states"),
     Target("full_scale_density_model", "dimensionless", None,
-           "relative error of the density model at the full-scale state (rho = rho_model (1 + e))"),
+           "relative error of the density model at the full-scale state (rho = rho_model (1 + e); "
+           "the speed of sound follows as (1 + e)^-1/2)"),
     Target("sutherland_constant", "temperature_difference", "sutherland",
            "Sutherland-constant deviation of the facility gas (and of full scale when it is the "
            "same gas)", _GAS, "sutherland"),

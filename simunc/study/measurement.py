@@ -16,7 +16,8 @@ from simunc.study.catalogue import BALANCE_COMPONENTS, COEFFICIENTS, MEASUREMENT
 from simunc.study.schema import SCANNER_REFERENCES, BalanceOption, InputSpec, Measurement
 from simunc.study.table import Table
 
-MEASUREMENT_KEYS = ("angle_of_attack", "reference_area", "full_scale_reference_area",
+MEASUREMENT_KEYS = ("angle_of_attack", "lift_curve_slope", "pitching_moment_slope",
+                    "reference_area", "full_scale_reference_area",
                     "reference_length", "reference_span", "scanner_reference", "balance",
                     "balance_option", "tap") + tuple(f"{c}_coefficient" for c in COEFFICIENTS)
 BALANCE_KEYS = ("name", "load_margin", "moment_transfer", "price") + tuple(BALANCE_COMPONENTS)
@@ -94,8 +95,18 @@ def read_measurement(data: Any, model_length: float | None, full_scale_length: f
     if taps and math.isnan(area):
         area = 1.0  # unused: pressure coefficients need no area
     options, price = _options(t, balance, capacity)
+    slopes = {}
+    for name, key in (("lift", "lift_curve_slope"), ("pitching_moment", "pitching_moment_slope")):
+        if t.has(key):
+            if name not in coefficients:
+                raise StudyError(t.key(key), t.data[key], f"a slope of a coefficient the balance "
+                                 f"measures ({name}_coefficient is not measured here)")
+            slopes[name] = t.quantity(key, "per_angle", positive=False)
+            if abs(slopes[name]) > 20.0:  # per radian: 2 pi is thin-airfoil theory
+                raise StudyError(t.key(key), t.data[key], "a slope within +-20 per radian "
+                                 "(+-0.35 per degree)")
     return Measurement(
-        angle_of_attack=alpha, coefficients=coefficients, area_per_length2=area,
+        angle_of_attack=alpha, coefficients=coefficients, slopes=slopes, area_per_length2=area,
         chord_per_length=chord, span_per_length=span,
         balance=balance.text("name", "balance") if capacity else "",
         capacity=capacity,

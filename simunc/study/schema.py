@@ -365,6 +365,10 @@ class Measurement:
         Expected (pre-test) coefficients at the test point: ``lift``, ``drag``,
         ``pitching_moment`` and, with a six-component balance, ``side_force``,
         ``rolling_moment``, ``yawing_moment`` (:data:`~simunc.study.catalogue.COEFFICIENTS`).
+    slopes : mapping
+        ``lift`` and ``pitching_moment`` -> dC/dalpha [1/rad] where stated: the true coefficient
+        is then ``C + slope (alpha_true - alpha_set)`` and the error of the reduced one is the
+        error at the measured (set) angle; without a slope it is the error at the true angle.
     balance : str
         Name of the balance.
     capacity : mapping
@@ -395,6 +399,7 @@ class Measurement:
     scanner_reference: ScannerReference = "static"
     options: tuple[BalanceOption, ...] = ()
     option_price: float | None = None  # price of the written balance, with options
+    slopes: Mapping[str, float] = field(default_factory=dict)
 
     @property
     def components(self) -> tuple[str, ...]:
@@ -493,9 +498,16 @@ class Study:
         """:attr:`Measurement.coefficient_outputs`, none without a measurement section."""
         return self.measurement.coefficient_outputs if self.measurement is not None else ()
 
+    def requirement_on(self, output: str) -> Requirement | None:
+        """The tightest requirement ``U_p(y) <= L`` with an absolute L on an output (None when
+        there is none): what the coefficient ranking, tightening and pre-test chart measure
+        against.  (A ``within`` requirement is judged about the set-point value, bias included,
+        and a limit in % of the value is left to the requirement checks.)"""
+        reqs = [r for r in self.requirements if r.output == output and not r.relative
+                and r.kind == "expanded_uncertainty"]
+        return min(reqs, key=lambda r: r.limit) if reqs else None
+
     def limit_of_output(self, output: str) -> float | None:
-        """The tightest absolute expanded-uncertainty or ``within`` limit a requirement puts on a
-        coefficient output (None when none does); the ranking measures shares against it."""
-        limits = [r.limit for r in self.requirements if r.output == output and not r.relative
-                  and r.kind in ("expanded_uncertainty", "within")]
-        return min(limits) if limits else None
+        """L of :meth:`requirement_on` (None without one)."""
+        r = self.requirement_on(output)
+        return None if r is None else r.limit

@@ -752,3 +752,28 @@ def test_balance_options_and_cost_models_refused(tmp_path, old, new, key):
     with pytest.raises(StudyError) as err:
         load_study(path)
     assert err.value.key == key
+
+
+@pytest.mark.slow
+def test_allocation_names_the_balance_it_prices(tmp_path):
+    # With no [[uncertain]] input on the balance's components the balance still is a choice of
+    # the allocation (its capacity); the total price must be that of the grades named plus the
+    # balance named (simunc's own bookkeeping, checked by summing the TOML prices by hand).
+    import simunc
+
+    raw = tomllib.loads(DEMO_BALANCE.read_text())
+    raw["uncertain"] = [u for u in raw["uncertain"]
+                        if not (u["perturbs"].endswith("_indication")
+                                and u["perturbs"][:-11] in raw["measurement"]["balance"])]
+    path = tmp_path / "no_balance_inputs.toml"
+    path.write_text(dumps(raw))
+    result = simunc.run(load_study(path), trials=2000, parts=("requirements",))
+    a = result.allocation
+    assert a is not None and not a.message
+    prices = {"Balance K-30 (six components)": raw["measurement"]["balance"]["price"]}
+    prices.update({o["name"]: o["price"] for o in raw["measurement"]["balance_option"]})
+    grade_price = {(u["name"], g["name"]): g["price"] for u in raw["uncertain"]
+                   for g in u.get("grades", [])}
+    assert a.balance in prices
+    assert a.cost == pytest.approx(prices[a.balance] + sum(
+        grade_price[(name, grade)] for name, grade in a.grades.items()), rel=1e-12)

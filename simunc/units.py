@@ -38,6 +38,7 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
     "speed": ("[velocity]", "m/s", "'230 m/s'"),
     "frequency": ("1/[time]", "Hz", "'12 Hz'"),
     "area": ("[area]", "m^2", "'2.4 m^2'"),
+    "volume": ("[volume]", "m^3", "'0.012 m^3'"),
     "force": ("[force]", "N", "'8 kN'"),
     "moment": ("[force] * [length]", "N*m", "'450 N*m'"),
     "angle": ("", "rad", "'2.5 deg'"),

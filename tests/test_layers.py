@@ -148,7 +148,7 @@ def test_the_rule_catches_a_wrong_import(bad, tmp_path, monkeypatch):
 @pytest.mark.parametrize("study_file", sorted((PACKAGE.parent / "studies").glob("*.toml")))
 def test_the_model_forms_exactly_the_catalogued_outputs(study_file):
     from simunc.pipeline import prepare
-    from simunc.study.catalogue import formed_outputs, measurement_outputs
+    from simunc.study.catalogue import formed_outputs
     from simunc.study.readers import load_study
 
     study = load_study(study_file)
@@ -159,6 +159,5 @@ def test_the_model_forms_exactly_the_catalogued_outputs(study_file):
                             model_frequency=prep.setpoint.nominal.get("frequency") is not None,
                             full_scale_frequency=fs.frequency is not None,
                             custom=[c.name for c in study.custom_groups],
-                            measured=() if m is None else measurement_outputs(
-                                m.components, list(m.coefficients), m.tap_names))
+                            measured=() if m is None else m.output_keys(study.kind))
     assert set(prep.setpoint.outputs) == set(listed)

@@ -452,8 +452,11 @@ def test_demo_loads_by_hand(demo):
     m = raw["measurement"]
     out = prep.setpoint.outputs
     q, s, c = out["dynamic_pressure"], si(m["reference_area"]), si(m["reference_length"])
-    alpha = si(m["angle_of_attack"])
     cl, cd, cm = m["lift_coefficient"], m["drag_coefficient"], m["pitching_moment_coefficient"]
+    # the aerodynamic angle: the set one plus the walls' upwash delta (S / C) CL (Glauert, as in
+    # Barlow, Rae and Pope, Low-Speed Wind Tunnel Testing, ch. 10; from memory of that book)
+    alpha = si(m["angle_of_attack"]) + m["walls"]["boundary_factor"] * s / si(
+        raw["facility"]["test_section_area"]) * cl
     n = q * s * (cl * math.cos(alpha) + cd * math.sin(alpha))        # Anderson eqs. 1.1-1.2
     a = q * s * (cd * math.cos(alpha) - cl * math.sin(alpha))
     x = si(m["balance"]["moment_transfer"])
@@ -668,6 +671,7 @@ def test_pretest_chart_pure_full_scale_balance_is_one_over_q(tmp_path):
 
     raw = tomllib.loads(DEMO_BALANCE.read_text())
     raw["uncertain"] = [u for u in raw["uncertain"] if u["perturbs"] == "axial_force_indication"]
+    raw["measurement"].pop("walls", None)  # their corrections' errors are inputs too
     raw.pop("requirement", None)
     raw["measurement"].pop("balance_option", None)
     raw["measurement"]["balance"].pop("price", None)

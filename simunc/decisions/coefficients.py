@@ -9,8 +9,10 @@ model-size trade (:mod:`simunc.decisions.pretest`).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import math
+from dataclasses import dataclass, replace
 
+import numpy as np
 import pandas as pd
 
 from simunc.decisions.balance import LOW_UTILISATION, utilisation
@@ -37,6 +39,40 @@ class CoefficientStage:
     notes: tuple[str, ...]
     chart: PressureChart | None
     trade: pd.DataFrame | None
+    walls: pd.DataFrame | None = None   # uncorrected, correction, corrected at the set point
+
+
+def wall_table(prep) -> pd.DataFrame | None:
+    """The wall corrections at the set point: uncorrected (the empty-tunnel calibration: the same
+    model without walls), correction and corrected value of the Mach number (or speed), q, the
+    Reynolds number, the angle of attack and the drag coefficient (the induced-drag part), and
+    the blockages; None without wall corrections."""
+    st, model = prep.study, prep.model
+    m = st.measurement
+    if m is None or m.walls is None:
+        return None
+    x = prep.setpoint.nominal
+    with_walls = {k: float(np.asarray(v)) for k, v in model(x).items()}
+    free = {k: float(np.asarray(v)) for k, v in replace(
+        model, measurement=replace(m, walls=None))(x).items()}
+    rows = []
+    speed = ("Mach number", "mach_model", "1") if st.kind == "gas" else ("speed", "speed", "m/s")
+    for label, key, unit in (speed, ("dynamic pressure q", "dynamic_pressure", "Pa"),
+                             ("Reynolds number (model)", "reynolds_model", "1")):
+        rows.append((label, free[key], with_walls[key] - free[key], with_walls[key], unit))
+    if "angle_correction" in with_walls:
+        da = with_walls["angle_correction"]
+        rows.append(("angle of attack", m.angle_of_attack, da, m.angle_of_attack + da, "rad"))
+        if "drag" in m.coefficients and "lift" in m.coefficients:
+            cl = m.coefficients["lift"]
+            rows.append(("drag coefficient (induced-drag correction CL d_alpha)",
+                         m.coefficients["drag"] - cl * da, cl * da, m.coefficients["drag"], "1"))
+    rows += [("solid blockage (incompressible, or as given)", math.nan, with_walls["solid_blockage"], math.nan, "1"),
+             ("wake blockage (incompressible, or as given)", math.nan, with_walls["wake_blockage"], math.nan, "1"),
+             ("total blockage epsilon (compressible)", math.nan, with_walls["blockage"], math.nan,
+              "1")]
+    return pd.DataFrame(rows, columns=["quantity", "uncorrected", "correction", "corrected",
+                                       "unit"])
 
 
 def coefficient_table(study, statistics: pd.DataFrame, sobol: dict[str, pd.DataFrame]
@@ -93,4 +129,4 @@ def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFr
                              "is large against the load.")
     return CoefficientStage(table=table, utilisation=use, warnings=tuple(warnings),
                             notes=tuple(notes), chart=pressure_chart(prep),
-                            trade=scale_trade(prep))
+                            trade=scale_trade(prep), walls=wall_table(prep))

@@ -61,6 +61,11 @@ def coefficient_blocks(result) -> list[Block]:
             b.append(Block("paragraph", f"Uncertainty budget of **{lit(out)}** (LPU, JCGM 100):"))
             b.append(Block("table", table(bud[["term", "sensitivity", "standard_uncertainty",
                                                "contribution", "share_percent"]])))
+    if c.walls is not None:
+        b.append(Block("paragraph", "Wall corrections at the set point (uncorrected: the empty-"
+                       "tunnel calibration; corrected: the stream the model sees, which the set "
+                       "point matches to full scale):"))
+        b.append(Block("table", table(c.walls)))
     if c.utilisation is not None:
         b.append(Block("paragraph", f"Balance utilisation at the set point ({lit(m.balance)}, "
                        f"load margin {100 * m.load_margin:g} %):"))

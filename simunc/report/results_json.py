@@ -214,6 +214,7 @@ def _coefficients(c):
             "setpoint": chart.setpoint, "setpoint_q": chart.setpoint_q, "balance": chart.balance,
             "probability": dict(chart.probability), "trials": chart.trials, "seed": chart.seed},
         "scale_trade": None if c.trade is None else c.trade.to_dict(orient="records"),
+        "walls": None if c.walls is None else c.walls.to_dict(orient="records"),
     }
 
 

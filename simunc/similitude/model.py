@@ -50,7 +50,7 @@ from typing import Mapping, cast
 import numpy as np
 
 from simunc.constants import STANDARD_GRAVITY
-from simunc.physics import flow, groups, reduction
+from simunc.physics import flow, groups, reduction, walls
 from simunc.physics.fluids import Fluid, GasModel
 from simunc.study.catalogue import GROUPS, TARGETS, CustomGroup, formed_groups
 from simunc.study.schema import FullScaleGiven, MachFrom, Measurement
@@ -127,20 +127,32 @@ class SimilitudeModel:
                 mach = f.mach_from_pressures(p0, t0, p_true, **params) + mach_dev
             else:
                 mach = mach_set + mach_dev
+            mach_rec = mach_set + d("mach_control")
+            blocked = self._blockage(x, d, mach, mach_rec)
+            if blocked is not None:  # the model sees the stream the walls speed up
+                blocked["mach_uncorrected"] = mach
+                mach = walls.corrected_mach(mach, blocked["blockage"])
+                mach_rec = walls.corrected_mach(mach_rec, blocked["recorded"])
             p, t = f.static_state(p0, t0, mach, **params)
             a = f.speed_of_sound(p, t, **params) * _sound_factor(d("density_model"))
             speed = mach * a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
             # What the data system records: the indicated p0 and T0 and the Mach number set from
-            # the indications (its control wander seen), reduced with the nominal fluid model.
+            # the indications (its control wander seen; corrected for the walls with the nominal
+            # blockage), reduced with the nominal fluid model.
             nominal = {k: np.asarray(x[k], dtype=float) for k in params}
-            mach_rec = mach_set + d("mach_control")
             p_rec, t_rec = f.static_state(p0_ind, t0_ind, mach_rec, **nominal)
             speed_rec = mach_rec * f.speed_of_sound(p_rec, t_rec, **nominal)
             p0_rec = p0_ind
         else:
             speed = (np.asarray(x["speed"], dtype=float) - d("speed_indication")
                      + d("speed_control"))
+            speed_rec = np.asarray(x["speed"], dtype=float) + d("speed_control")
+            blocked = self._blockage(x, d, 0.0, 0.0)
+            if blocked is not None:  # the model sees the stream the walls speed up
+                blocked["speed_uncorrected"] = speed
+                speed = walls.corrected_speed(speed, blocked["blockage"])
+                speed_rec = walls.corrected_speed(speed_rec, blocked["recorded"])
             depth = self.immersion_depth(x)
             p_surface = (np.asarray(x["static_pressure"], dtype=float)
                          - d("static_pressure_indication") + d("static_pressure_control"))
@@ -154,7 +166,6 @@ class SimilitudeModel:
             p0 = p + flow.kinetic_pressure(rho, speed)
             t0 = t
             nominal = {k: np.asarray(x[k], dtype=float) for k in params}
-            speed_rec = np.asarray(x["speed"], dtype=float) + d("speed_control")
             p_rec = np.asarray(x["static_pressure"], dtype=float) + d("static_pressure_control")
             t_rec = np.asarray(x["temperature"], dtype=float) + d("temperature_control")
             p_rec = flow.hydrostatic_pressure(p_rec, f.density(p_rec, t_rec, **nominal), depth,
@@ -166,7 +177,41 @@ class SimilitudeModel:
                     "rho": f.density(p_rec, t_rec, **nominal),
                     "mu": f.viscosity(p_rec, t_rec, **nominal)}
         return {"fluid": f, "params": params, "p": p, "t": t, "p0": p0, "t0": t0, "rho": rho,
-                "a": a, "mu": mu, "speed": speed, "mach": mach, "recorded": recorded}
+                "a": a, "mu": mu, "speed": speed, "mach": mach, "recorded": recorded,
+                "blocked": blocked}
+
+    def _blockage(self, x, d, mach, mach_recorded) -> dict | None:
+        """Total blockage of the walls, true and as the data system applies it (None without
+        wall corrections).
+
+        ``solid_blockage`` = shape factor V / C^(3/2) (or as given), ``wake_blockage`` =
+        S / (4 C) C_D (or as given), the computed ones made compressible at the uncorrected Mach
+        number (:mod:`simunc.physics.walls`); the true ones carry the relative errors of their
+        corrections (``solid_blockage_correction``, ``wake_blockage_correction``).
+        """
+        m = self.measurement
+        if m is None or m.walls is None:
+            return None
+        w = m.walls
+        length = np.asarray(x["model_length"], dtype=float)
+        area = m.area_per_length2 * length ** 2
+        solid = (walls.solid_blockage(w.volume_per_length3 * length ** 3, w.test_section_area,
+                                      w.shape_factor)
+                 if w.solid_blockage is None else w.solid_blockage)
+        wake = (walls.wake_blockage(area, w.test_section_area, m.coefficients["drag"])
+                if w.wake_blockage is None else w.wake_blockage)
+        e_solid, e_wake = d("solid_blockage_correction"), d("wake_blockage_correction")
+
+        def total(s, k, mach_u):
+            if w.solid_blockage is not None and w.wake_blockage is not None:
+                return s + k  # both as given, at the test condition
+            s_c, k_c = walls.compressible_blockage(s, k, mach_u, parts=True)
+            return (s if w.solid_blockage is not None else s_c) + (
+                k if w.wake_blockage is not None else k_c)
+
+        return {"blockage": total(solid * (1.0 + e_solid), wake * (1.0 + e_wake), mach),
+                "recorded": total(solid, wake, mach_recorded),
+                "solid_blockage": solid, "wake_blockage": wake}
 
     def _full_scale(self, x, d, facility_params) -> dict:
         fg = self.full_scale_fluid
@@ -226,12 +271,22 @@ class SimilitudeModel:
         area = area_nom + d("reference_area")
         chord_nom, span_nom = m.chord_per_length * length_nom, m.span_per_length * length_nom
         alpha_set = m.angle_of_attack
-        alpha = alpha_set - d("attitude_indication") + d("flow_angularity")
-        out = {"angle_of_attack": alpha, "angle_of_attack_error": alpha_set - alpha,
+        # The walls' upwash (lift interference), applied by the data system with its nominal
+        # value: the measured angle is the set one plus that correction.
+        upwash = 0.0
+        if m.walls is not None and m.walls.boundary_factor is not None:
+            upwash = walls.lift_interference(m.walls.boundary_factor, area_nom,
+                                             m.walls.test_section_area, m.coefficients["lift"])[0]
+        alpha_meas = alpha_set + upwash
+        alpha = (alpha_set - d("attitude_indication") + d("flow_angularity")
+                 + upwash * (1.0 + d("lift_interference_correction")))
+        out = {"angle_of_attack": alpha, "angle_of_attack_error": alpha_meas - alpha,
                "reference_area": area}
+        if m.walls is not None and m.walls.boundary_factor is not None:
+            out["angle_correction"] = upwash * (1.0 + d("lift_interference_correction"))
         c = dict(m.coefficients)
         for name, slope in m.slopes.items():  # the coefficient at the true angle
-            c[name] = c[name] + slope * (alpha - alpha_set)
+            c[name] = c[name] + slope * (alpha - alpha_meas)
         qs, qs_rec = q * area, q_rec * area_nom
         true: dict[str, np.ndarray] = {}
         read: dict[str, np.ndarray] = {}
@@ -260,7 +315,7 @@ class SimilitudeModel:
                     qs_rec * ref)
         if "lift" in c and "drag" in c:
             lift, drag = reduction.body_to_wind(read["normal_force"], read["axial_force"],
-                                                alpha_set)
+                                                alpha_meas)
             out["lift_coefficient"] = reduction.force_coefficient(lift, q_rec, area_nom)
             out["drag_coefficient"] = reduction.force_coefficient(drag, q_rec, area_nom)
         for name in m.capacity:
@@ -357,6 +412,8 @@ class SimilitudeModel:
                 out[f"{name}_ratio"] = gm[name] / gf[name]
         if self.measurement is not None:
             out.update(self._reduction(x, d, fac, q, q_rec))
+        if fac["blocked"] is not None:
+            out.update({k: v for k, v in fac["blocked"].items() if k != "recorded"})
         if self.custom_groups:
             qm = self._quantities(fac, length, freq)
             qf = self._quantities(fs, fs_length, fs_freq)

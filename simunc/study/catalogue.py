@@ -133,6 +133,12 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
            "= geometric + e)"),
     Target("reference_area", "area", "reference_area",
            "model reference-area manufacturing deviation (true = nominal + e)"),
+    Target("solid_blockage_correction", "dimensionless", None,
+           "relative error of the solid-blockage correction (true = nominal (1 + e))"),
+    Target("wake_blockage_correction", "dimensionless", None,
+           "relative error of the wake-blockage correction (true = nominal (1 + e))"),
+    Target("lift_interference_correction", "dimensionless", None,
+           "relative error of the lift-interference angle correction (true = nominal (1 + e))"),
     Target("pressure_scanner_indication", "pressure", "dynamic_pressure",
            "pressure-scanner error of every tap's differential pressure (reading = true + e; a % "
            "of reading is of q)"),
@@ -159,7 +165,8 @@ COEFFICIENTS: dict[str, tuple[tuple[str, ...], str]] = {
 MEASUREMENT_TARGETS = frozenset(
     [f"{c}_indication" for c in BALANCE_COMPONENTS] + [
         "axial_force_interaction", "moment_transfer_distance", "attitude_indication",
-        "flow_angularity", "reference_area", "pressure_scanner_indication"])
+        "flow_angularity", "reference_area", "pressure_scanner_indication",
+        "solid_blockage_correction", "wake_blockage_correction", "lift_interference_correction"])
 
 #: Targets that are the full-scale condition itself (not a test error): reported apart.
 CONDITION_TARGETS = frozenset(t.name for t in TARGETS.values() if t.name.startswith("full_scale_")
@@ -232,22 +239,36 @@ OUTPUTS: dict[str, tuple[str, str]] = {
     "angle_of_attack": ("rad", "true angle of attack (geometric + upflow)"),
     "angle_of_attack_error": ("rad", "angle of attack the data system uses - true"),
     "reference_area": ("m^2", "true model reference area"),
+    "blockage": ("1", "total blockage of the walls epsilon (true): U_corrected = U (1 + epsilon)"),
+    "solid_blockage": ("1", "solid blockage of the walls (nominal, incompressible)"),
+    "wake_blockage": ("1", "wake blockage of the walls (nominal, incompressible)"),
+    "mach_uncorrected": ("1", "test-section Mach number before the wall correction"),
+    "speed_uncorrected": ("m/s", "test-section speed before the wall correction"),
+    "angle_correction": ("rad", "lift-interference angle correction of the walls (true)"),
 }
 
 
 def measurement_outputs(components: Sequence[str], coefficients: Sequence[str],
-                        taps: Sequence[str]) -> tuple[str, ...]:
+                        taps: Sequence[str], walls: str = "", upwash: bool = False
+                        ) -> tuple[str, ...]:
     """Output keys of the data reduction: the attitude and area, the balance loads, each reduced
-    coefficient and each tap's pressure coefficient.  (A coefficient's error is the reduced value
+    coefficient and each tap's pressure coefficient, and with wall corrections (``walls``: the
+    facility kind) the blockages, the uncorrected Mach number or speed and (``upwash``) the angle
+    correction.  (A coefficient's error is the reduced value
     less the stated one, a constant: its statistics are the coefficient's, shifted; the
     coefficient table gives its bias.)
 
     >>> measurement_outputs(["normal_force"], ["lift"], ["u30"])[-2:]
     ('lift_coefficient', 'pressure_coefficient_u30')
     """
-    return tuple(["angle_of_attack", "angle_of_attack_error", "reference_area"] + list(components)
-                 + [f"{c}_coefficient" for c in coefficients]
-                 + [f"pressure_coefficient_{t}" for t in taps])
+    out = ["angle_of_attack", "angle_of_attack_error", "reference_area"] + list(components) \
+        + [f"{c}_coefficient" for c in coefficients] + [f"pressure_coefficient_{t}" for t in taps]
+    if walls:  # "gas" or "liquid": the facility kind of a study with wall corrections
+        out += ["blockage", "solid_blockage", "wake_blockage",
+                "mach_uncorrected" if walls == "gas" else "speed_uncorrected"]
+    if upwash:
+        out.append("angle_correction")
+    return tuple(out)
 
 
 def describe_output(key: str) -> tuple[str, str]:
@@ -308,7 +329,7 @@ def formed_outputs(facility_fluid: object, full_scale_fluid: object, *, model_fr
     then ``measured`` (:func:`measurement_outputs` of a study with a measurement section)."""
     params = tuple(getattr(facility_fluid, "parameters", ()))
     every_parameter = {t.parameter for t in TARGETS.values() if t.parameter}
-    every_parameter |= set(measurement_outputs((), (), ()))
+    every_parameter |= set(measurement_outputs((), (), (), "gas", True)) | {"speed_uncorrected"}
     flow = [k for k in OUTPUTS if k not in every_parameter
             and (k != "frequency" or model_frequency)
             and (k != "full_scale_frequency" or full_scale_frequency)] + list(params)

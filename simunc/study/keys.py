@@ -3,7 +3,13 @@
 from __future__ import annotations
 
 from simunc.study.catalogue import BALANCE_COMPONENTS, GROUPS
-from simunc.study.measurement import BALANCE_KEYS, MEASUREMENT_KEYS, OPTION_KEYS, TAP_KEYS
+from simunc.study.measurement import (
+    BALANCE_KEYS,
+    MEASUREMENT_KEYS,
+    OPTION_KEYS,
+    TAP_KEYS,
+    WALL_KEYS,
+)
 
 ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
               "correlations", "run", "dimensional_analysis", "requirement", "sweep",
@@ -77,4 +83,5 @@ SECTION_KEYS: dict[str, tuple[str, ...]] = {
     "measurement.balance_option.capacity": tuple(BALANCE_COMPONENTS),
     "measurement.balance_option.full_scale": tuple(BALANCE_COMPONENTS),
     "measurement.tap": TAP_KEYS,
+    "measurement.walls": WALL_KEYS,
 }

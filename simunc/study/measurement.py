@@ -12,17 +12,39 @@ import re
 from typing import Any
 
 from simunc.errors import GIVEN_LIMIT, StudyError, plain
+from simunc.physics import walls
 from simunc.study.catalogue import BALANCE_COMPONENTS, COEFFICIENTS, MEASUREMENT_TARGETS
-from simunc.study.schema import SCANNER_REFERENCES, BalanceOption, InputSpec, Measurement
+from simunc.study.schema import (
+    SCANNER_REFERENCES,
+    BalanceOption,
+    InputSpec,
+    Measurement,
+    Walls,
+)
 from simunc.study.table import Table
+from simunc.units import Parsed
 
-MEASUREMENT_KEYS = ("angle_of_attack", "lift_curve_slope", "pitching_moment_slope",
+MEASUREMENT_KEYS = ("angle_of_attack", "lift_curve_slope", "pitching_moment_slope", "walls",
                     "reference_area", "full_scale_reference_area",
                     "reference_length", "reference_span", "scanner_reference", "balance",
                     "balance_option", "tap") + tuple(f"{c}_coefficient" for c in COEFFICIENTS)
 BALANCE_KEYS = ("name", "load_margin", "moment_transfer", "price") + tuple(BALANCE_COMPONENTS)
 OPTION_KEYS = ("name", "price", "capacity", "full_scale")
 TAP_KEYS = ("name", "pressure_coefficient")
+WALL_KEYS = ("model_volume", "shape_factor", "solid_blockage", "wake_blockage", "boundary_factor",
+             "blockage_uncertainty", "lift_interference_uncertainty")
+
+#: Relative uncertainty (rectangular half-width) of a wall correction when the study states none:
+#: the classical closed-wall corrections are taken as good to about a quarter of their value for
+#: small models (common practice, no source).
+DEFAULT_CORRECTION_UNCERTAINTY = 0.25
+#: The wall corrections' uncertain inputs: target -> (input name, key of its size).
+WALL_INPUTS = {
+    "solid_blockage_correction": ("solid-blockage correction", "blockage_uncertainty"),
+    "wake_blockage_correction": ("wake-blockage correction", "blockage_uncertainty"),
+    "lift_interference_correction": ("lift-interference correction",
+                                     "lift_interference_uncertainty"),
+}
 
 #: Largest angle of attack read (the reduction resolves loads through it; a model beyond this
 #: is a high-alpha test that this point analysis does not describe).
@@ -105,8 +127,9 @@ def read_measurement(data: Any, model_length: float | None, full_scale_length: f
             if abs(slopes[name]) > 20.0:  # per radian: 2 pi is thin-airfoil theory
                 raise StudyError(t.key(key), t.data[key], "a slope within +-20 per radian "
                                  "(+-0.35 per degree)")
+    walls = _walls(t, model_length, coefficients) if t.has("walls") else None
     return Measurement(
-        angle_of_attack=alpha, coefficients=coefficients, slopes=slopes, area_per_length2=area,
+        angle_of_attack=alpha, coefficients=coefficients, slopes=slopes, walls=walls, area_per_length2=area,
         chord_per_length=chord, span_per_length=span,
         balance=balance.text("name", "balance") if capacity else "",
         capacity=capacity,
@@ -116,6 +139,65 @@ def read_measurement(data: Any, model_length: float | None, full_scale_length: f
         taps=taps,
         scanner_reference=t.choice("scanner_reference", SCANNER_REFERENCES, default="static"),
         options=options, option_price=price)
+
+
+def _walls(t: Table, model_length: float | None, coefficients: dict) -> Walls:
+    """``[measurement.walls]`` -> :class:`Walls` (the test-section area is the facility's)."""
+    w = Table(t.data["walls"], t.key("walls"), WALL_KEYS)
+    how = w.exclusive(("model_volume", "solid_blockage"))
+    volume = None
+    if how == "model_volume":
+        if model_length is None:
+            raise StudyError(w.key("model_volume"), w.data["model_volume"], "solid_blockage as a "
+                             "number when the model size is solved (or give the model size)")
+        volume = w.quantity("model_volume", "volume") / model_length ** 3
+    elif w.has("shape_factor"):
+        raise StudyError(w.key("shape_factor"), w.data["shape_factor"], "a shape factor only "
+                         "with model_volume")
+    if not w.has("wake_blockage") and "drag" not in coefficients:
+        w.require("wake_blockage", "the wake blockage as a number, or a balance measuring drag "
+                  "(the classical wake blockage follows from the drag coefficient)")
+    if w.has("boundary_factor") and "lift" not in coefficients:
+        raise StudyError(w.key("boundary_factor"), w.data["boundary_factor"], "a lift-"
+                         "interference factor only with a balance measuring lift")
+    return Walls(
+        test_section_area=math.nan,  # the facility's, filled in by the study reader
+        volume_per_length3=volume,
+        shape_factor=w.number("shape_factor", default=walls.SHAPE_FACTOR, low=0.0, high=5.0,
+                              low_open=True, what="a shape factor above 0 (about 0.9 for a "
+                              "three-dimensional model)") if volume is not None else 0.0,
+        solid_blockage=w.number("solid_blockage", low=-0.2, high=0.2, what="a blockage "
+                                "between -0.2 and 0.2") if how == "solid_blockage" else None,
+        wake_blockage=w.number("wake_blockage", low=-0.2, high=0.2, what="a blockage between "
+                               "-0.2 and 0.2") if w.has("wake_blockage") else None,
+        boundary_factor=w.number("boundary_factor", low=-2.0, high=2.0, what="a boundary "
+                                 "factor between -2 and 2 (e.g. 0.125 closed, negative open)")
+        if w.has("boundary_factor") else None)
+
+
+def wall_inputs(data: Any, m: Measurement | None, inputs: tuple[InputSpec, ...]
+                ) -> tuple[InputSpec, ...]:
+    """The uncertain inputs of the wall corrections that the study does not write itself: each
+    correction's relative error, rectangular, of half-width ``blockage_uncertainty`` or
+    ``lift_interference_uncertainty`` (default :data:`DEFAULT_CORRECTION_UNCERTAINTY`)."""
+    if m is None or m.walls is None:
+        return ()
+    w = Table(data["measurement"]["walls"], "measurement.walls", WALL_KEYS)
+    written = {t for spec in inputs for t in spec.targets}
+    present = {"solid_blockage_correction": True, "wake_blockage_correction": True,
+               "lift_interference_correction": m.walls.boundary_factor is not None}
+    out = []
+    for target, (name, key) in WALL_INPUTS.items():
+        if not present[target] or target in written:
+            continue
+        size = w.number(key, default=DEFAULT_CORRECTION_UNCERTAINTY, low=0.0, high=1.0,
+                        low_open=True, allow_percent=True, what="a fraction of the correction "
+                        "above 0 and at most 100 %, e.g. '25 %'")
+        text = str(w.data[key]) if w.has(key) else \
+            f"{100 * DEFAULT_CORRECTION_UNCERTAINTY:g} % (default)"
+        out.append(InputSpec(name, target, "rectangular", "half_width", Parsed(size, True), 1.0,
+                             f"{text} of the correction", "", f"measurement.walls.{key}"))
+    return tuple(out)
 
 
 def _taps(t: Table) -> tuple[tuple[str, float], ...]:
@@ -220,6 +302,10 @@ def check_measurement_inputs(inputs: tuple[InputSpec, ...], m: Measurement | Non
                 needs = "pressure taps ([[measurement.tap]])"
             elif target in ("attitude_indication", "flow_angularity") and not m.capacity:
                 needs = "a balance (the angle of attack enters the balance's axis resolution)"
+            elif target in WALL_INPUTS and (m.walls is None or (
+                    target == "lift_interference_correction" and m.walls.boundary_factor is None)):
+                needs = ("a [measurement.walls] table" if m.walls is None else
+                         "measurement.walls.boundary_factor")
             if needs:
                 raise StudyError(key, repr(target), f"a quantity this study measures: it needs "
                                  f"{needs}")

@@ -11,6 +11,7 @@ from __future__ import annotations
 import hashlib
 import math
 import tomllib
+from dataclasses import replace
 from pathlib import Path
 from typing import Any, cast
 
@@ -21,7 +22,7 @@ from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.study import planning
-from simunc.study.measurement import check_measurement_inputs, read_measurement
+from simunc.study.measurement import check_measurement_inputs, read_measurement, wall_inputs
 from simunc.study.catalogue import (
     GROUPS,
     QUANTITIES,
@@ -171,10 +172,9 @@ def _facility(t: Table) -> Facility:
         fluids = tuple(_humid(t, f) for f in fluids)
     elif any(f.name == "moist_air" for f in fluids):
         t.require("humidity", "a dew point or relative humidity for moist_air")
-    if t.has("max_blockage") != t.has("test_section_area"):
-        missing = "test_section_area" if t.has("max_blockage") else "max_blockage"
-        t.require(missing, "the blockage limit needs max_blockage, test_section_area and "
-                  "full_scale.frontal_area together")
+    if t.has("max_blockage") and not t.has("test_section_area"):
+        t.require("test_section_area", "the blockage limit needs max_blockage, "
+                  "test_section_area and full_scale.frontal_area together")
     for k in (LIQUID_ONLY if kind == "gas" else GAS_ONLY):
         if t.has(k):
             raise StudyError(t.key(k), t.data[k], f"no {k} for a {kind} facility ({names[0]})")
@@ -437,6 +437,19 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
     if not isinstance(inputs_raw, list):
         raise StudyError("uncertain", inputs_raw, "an array of tables ([[uncertain]] entries)")
     inputs = tuple(read_input(d, i, fac.kind, fac.gas, fs.fluid) for i, d in enumerate(inputs_raw))
+    model_length = ref_len if ref_len is not None else (
+        scale * fs.reference_length if scale is not None else None)
+    measurement = read_measurement(data["measurement"], model_length, fs.reference_length) \
+        if "measurement" in data else None
+    if measurement is not None and measurement.walls is not None:
+        area = fac.test_section_area
+        if area is None:
+            ft.require("test_section_area", "the test-section area C of the wall corrections in "
+                       "[measurement.walls]")
+        measurement = replace(measurement, walls=replace(
+            measurement.walls, test_section_area=cast(float, area)))
+    check_measurement_inputs(inputs, measurement)
+    inputs += wall_inputs(data, measurement, inputs)
     names = [i.name for i in inputs]
     for i, n in enumerate(names):
         if names.index(n) != i:
@@ -469,11 +482,6 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
                 raise StudyError(f"uncertain[{i}].perturbs", repr(target),
                                  f"a quantity of the facility fluid ({fac.gas.name} has no {p})")
     correlation = read_correlations(data["correlations"], names) if "correlations" in data else None
-    model_length = ref_len if ref_len is not None else (
-        scale * fs.reference_length if scale is not None else None)
-    measurement = read_measurement(data["measurement"], model_length, fs.reference_length) \
-        if "measurement" in data else None
-    check_measurement_inputs(inputs, measurement)
 
     rt = Table(data.get("run", {}), "run", RUN_KEYS)
     n_sobol = rt.integer("sobol_base_samples", 4096, 64)
@@ -496,8 +504,7 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         f, fs.fluid, model_frequency=fs.frequency is not None and (
             freq is not None or "frequency" in unknowns),
         full_scale_frequency=fs.frequency is not None, custom=[c.name for c in customs],
-        measured=() if measurement is None else measurement_outputs(
-            measurement.components, list(measurement.coefficients), measurement.tap_names)))
+        measured=() if measurement is None else measurement.output_keys(fac.kind)))
         for f in fac.fluids))
     requirements, sweeps, sens, design = _decisions(data, bands, inputs, outputs)
     return Study(

@@ -15,7 +15,7 @@ import numpy as np
 
 from simunc.physics.dimensional import PiGroup
 from simunc.physics.fluids import AIR, Fluid
-from simunc.study.catalogue import CustomGroup, output_key
+from simunc.study.catalogue import CustomGroup, measurement_outputs, output_key
 from simunc.uncertainty.correlation import Correlation
 from simunc.units import Parsed
 
@@ -349,6 +349,26 @@ class BalanceOption:
 
 
 @dataclass(frozen=True, kw_only=True)
+class Walls:
+    """Test-section boundary corrections (``[measurement.walls]``), in SI.
+
+    Solid blockage ``shape_factor V / C^(3/2)`` (V = ``volume_per_length3 L^3`` for a model of
+    reference length L, C the test-section area), or ``solid_blockage`` as given; wake blockage
+    ``S / (4 C) C_D`` (S = the reference area), or ``wake_blockage`` as given; both made
+    compressible with the test Mach number; lift interference ``delta (S / C) C_L`` with the
+    boundary factor ``delta`` (None: no lift-interference correction).  The formulas are in
+    :mod:`simunc.physics.walls`.
+    """
+
+    test_section_area: float
+    volume_per_length3: float | None = None
+    shape_factor: float = 0.0
+    solid_blockage: float | None = None
+    wake_blockage: float | None = None
+    boundary_factor: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
 class Measurement:
     """What the test measures and how (``[measurement]``), in SI.
 
@@ -400,6 +420,7 @@ class Measurement:
     options: tuple[BalanceOption, ...] = ()
     option_price: float | None = None  # price of the written balance, with options
     slopes: Mapping[str, float] = field(default_factory=dict)
+    walls: Walls | None = None
 
     @property
     def components(self) -> tuple[str, ...]:
@@ -408,6 +429,14 @@ class Measurement:
     @property
     def tap_names(self) -> tuple[str, ...]:
         return tuple(name for name, _ in self.taps)
+
+    def output_keys(self, kind: str) -> tuple[str, ...]:
+        """Every output key of the data reduction for a facility of ``kind`` (``gas`` or
+        ``liquid``): :func:`~simunc.study.catalogue.measurement_outputs`."""
+        return measurement_outputs(
+            self.components, list(self.coefficients), self.tap_names,
+            kind if self.walls is not None else "",
+            self.walls is not None and self.walls.boundary_factor is not None)
 
     @property
     def coefficient_outputs(self) -> tuple[str, ...]:

@@ -40,6 +40,25 @@ class CoefficientStage:
     chart: PressureChart | None
     trade: pd.DataFrame | None
     walls: pd.DataFrame | None = None   # uncorrected, correction, corrected at the set point
+    scale: pd.DataFrame | None = None   # tunnel - full scale of each coefficient a scale effect moves
+
+
+def scale_table(study, statistics: pd.DataFrame) -> pd.DataFrame | None:
+    """Per coefficient of the scale effect: the tunnel's value less the full-scale one at the set
+    point (the bias of taking the one for the other), its Monte Carlo mean, u and U (the
+    half-length of the symmetric interval; drag also in counts); None without a scale effect."""
+    m = study.measurement
+    if m is None or m.scale_effect is None:
+        return None
+    rows = []
+    for name in m.scale_effect.coefficients:
+        s = statistics.loc[f"{name}_coefficient_to_full_scale"]
+        half = 0.5 * (float(s["high"]) - float(s["low"]))
+        rows.append({"coefficient": f"{name}_coefficient", "bias at the set point":
+                     float(s["nominal"]), "mean": float(s["mean"]),
+                     "u": float(s["standard_uncertainty"]), "U": half,
+                     "U_counts": half / COUNT if name == "drag" else None})
+    return pd.DataFrame(rows)
 
 
 def wall_table(prep) -> pd.DataFrame | None:
@@ -129,4 +148,5 @@ def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFr
                              "is large against the load.")
     return CoefficientStage(table=table, utilisation=use, warnings=tuple(warnings),
                             notes=tuple(notes), chart=pressure_chart(prep),
-                            trade=scale_trade(prep), walls=wall_table(prep))
+                            trade=scale_trade(prep), walls=wall_table(prep),
+                            scale=scale_table(st, statistics))

@@ -190,7 +190,8 @@ def scale_trade(prep, *, factors=SCALE_FACTORS, trials: int = PRETEST_TRIALS
     Columns: ``model_length`` [m], ``scale`` (model / full scale), ``stagnation_pressure`` or
     ``speed``, ``feasible``, ``reynolds_ratio``, ``blockage`` (NaN without the areas),
     ``dynamic_pressure`` [Pa], ``largest_utilisation`` (of the written balance) and U of CD (also
-    in counts) and CL (as in :class:`PressureChart`).
+    in counts) and CL (as in :class:`PressureChart`); with a scale effect on the drag,
+    ``drag_bias_to_full_scale`` (the tunnel's drag less the full-scale one at that size).
     """
     st, m = prep.study, prep.study.measurement
     outs = [o for o in CHART_OUTPUTS if m is not None and o in st.coefficient_outputs]
@@ -223,5 +224,7 @@ def scale_trade(prep, *, factors=SCALE_FACTORS, trials: int = PRETEST_TRIALS
                      "largest_utilisation": float(use["utilisation"].max()),
                      **{f"U_{o}": spread[o] for o in outs},
                      **({"U_drag_coefficient_counts": spread["drag_coefficient"] / COUNT}
-                        if "drag_coefficient" in spread else {})})
+                        if "drag_coefficient" in spread else {}),
+                     **({"drag_bias_to_full_scale": float(out["drag_coefficient_to_full_scale"])}
+                        if "drag_coefficient_to_full_scale" in out else {})})
     return pd.DataFrame(rows)

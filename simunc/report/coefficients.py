@@ -66,6 +66,18 @@ def coefficient_blocks(result) -> list[Block]:
                        "tunnel calibration; corrected: the stream the model sees, which the set "
                        "point matches to full scale):"))
         b.append(Block("table", table(c.walls)))
+    if c.scale is not None:
+        se = st.measurement.scale_effect
+        how = (f"friction line {se.line} with form factor {se.form_factor:g} and wetted ratio "
+               f"{se.wetted_ratio:g}" + (f", compared with {', '.join(se.compare)}"
+                                          if se.compare else "")
+               if se.method == "friction_line" else "the stated sensitivities")
+        b.append(Block("paragraph", f"Scale effect ({lit(how)}): the stated coefficients are the "
+                       "full-scale values; the tunnel's follow from the Reynolds and Mach numbers "
+                       "of each trial. Tunnel value less full-scale value (the bias of taking the "
+                       "one for the other, with its uncertainty: data reduction, the scatter of "
+                       "the achieved Reynolds number and the model form):"))
+        b.append(Block("table", table(c.scale)))
     if c.utilisation is not None:
         b.append(Block("paragraph", f"Balance utilisation at the set point ({lit(m.balance)}, "
                        f"load margin {100 * m.load_margin:g} %):"))

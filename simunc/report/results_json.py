@@ -215,6 +215,7 @@ def _coefficients(c):
             "probability": dict(chart.probability), "trials": chart.trials, "seed": chart.seed},
         "scale_trade": None if c.trade is None else c.trade.to_dict(orient="records"),
         "walls": None if c.walls is None else c.walls.to_dict(orient="records"),
+        "scale_effect": None if c.scale is None else c.scale.to_dict(orient="records"),
     }
 
 

@@ -50,7 +50,7 @@ from typing import Mapping, cast
 import numpy as np
 
 from simunc.constants import STANDARD_GRAVITY
-from simunc.physics import flow, groups, reduction, walls
+from simunc.physics import flow, friction, groups, reduction, walls
 from simunc.physics.fluids import Fluid, GasModel
 from simunc.study.catalogue import GROUPS, TARGETS, CustomGroup, formed_groups
 from simunc.study.schema import FullScaleGiven, MachFrom, Measurement
@@ -250,7 +250,35 @@ class SimilitudeModel:
         }
         return {name: formulas[name]() for name in names}
 
-    def _reduction(self, x, d, fac: dict, q, q_rec) -> dict:
+    def _scale_increments(self, re_model, re_full, mach_model, mach_full) -> tuple[dict, object]:
+        """Coefficient increments of the tunnel over full scale, ``C(Re_model, M_model) -
+        C(Re_full, M_full)``, per coefficient of the scale effect, and (friction line with
+        ``compare``) the largest difference of a compared line's drag increment from the chosen
+        line's (the model-form spread; 0 without).
+
+        Friction line: ``C_D,visc = (1 + k) C_F(Re) S_wet / S_ref`` (:mod:`simunc.physics.friction`);
+        sensitivity: ``dC/dlog10 Re (log10 Re_model - log10 Re_full) + dC/dM (M_model - M_full)``.
+        """
+        s = cast(Measurement, self.measurement).scale_effect
+        if s is None:
+            return {}, 0.0
+        if s.method == "friction_line":
+            def increment(line):
+                return (friction.friction_drag(line, re_model, s.form_factor, s.wetted_ratio)
+                        - friction.friction_drag(line, re_full, s.form_factor, s.wetted_ratio))
+            main = increment(s.line)
+            spread = 0.0
+            for line in s.compare:
+                spread = np.maximum(spread, np.abs(increment(line) - main))
+            return {"drag": main}, spread
+        out = {}
+        decades = np.log10(re_model) - np.log10(re_full)
+        for name in s.coefficients:
+            out[name] = (s.per_decade.get(name, 0.0) * decades
+                         + s.per_mach.get(name, 0.0) * (mach_model - mach_full))
+        return out, 0.0
+
+    def _reduction(self, x, d, fac: dict, q, q_rec, similarity=None) -> dict:
         """The data reduction of one trial: true loads, balance and scanner readings, and the
         coefficients the data system reduces from them (see the module docstring).
 
@@ -285,6 +313,10 @@ class SimilitudeModel:
         if m.walls is not None and m.walls.boundary_factor is not None:
             out["angle_correction"] = upwash * (1.0 + d("lift_interference_correction"))
         c = dict(m.coefficients)
+        increments, spread = self._scale_increments(*similarity) if similarity is not None \
+            and m.scale_effect is not None else ({}, 0.0)
+        for name, inc in increments.items():  # the tunnel's coefficient from full scale's
+            c[name] = c[name] + inc
         for name, slope in m.slopes.items():  # the coefficient at the true angle
             c[name] = c[name] + slope * (alpha - alpha_meas)
         qs, qs_rec = q * area, q_rec * area_nom
@@ -320,6 +352,10 @@ class SimilitudeModel:
             out["drag_coefficient"] = reduction.force_coefficient(drag, q_rec, area_nom)
         for name in m.capacity:
             out[name] = true[name]
+        for name in increments:  # taking the tunnel's value for full scale's
+            full = m.coefficients[name] + (d("scale_effect_model") * spread if name == "drag"
+                                           else 0.0)
+            out[f"{name}_coefficient_to_full_scale"] = out[f"{name}_coefficient"] - full
         if m.taps:
             # Cp = (p_tap - p_ref + e + p_ref,recorded - p_recorded) / q_recorded with
             # p_tap = p + Cp q: the terms common to every tap are formed once.
@@ -411,7 +447,8 @@ class SimilitudeModel:
             else:
                 out[f"{name}_ratio"] = gm[name] / gf[name]
         if self.measurement is not None:
-            out.update(self._reduction(x, d, fac, q, q_rec))
+            out.update(self._reduction(x, d, fac, q, q_rec, (
+                gm["reynolds"], gf["reynolds"], fac["mach"], fs["mach"])))
         if fac["blocked"] is not None:
             out.update({k: v for k, v in fac["blocked"].items() if k != "recorded"})
         if self.custom_groups:

@@ -139,6 +139,9 @@ TARGETS: dict[str, Target] = {t.name: t for t in (
            "relative error of the wake-blockage correction (true = nominal (1 + e))"),
     Target("lift_interference_correction", "dimensionless", None,
            "relative error of the lift-interference angle correction (true = nominal (1 + e))"),
+    Target("scale_effect_model", "dimensionless", None,
+           "model-form error of the friction-line scale effect, as a fraction of the spread of "
+           "the compared lines (full-scale CD = predicted + e x spread)"),
     Target("pressure_scanner_indication", "pressure", "dynamic_pressure",
            "pressure-scanner error of every tap's differential pressure (reading = true + e; a % "
            "of reading is of q)"),
@@ -166,7 +169,8 @@ MEASUREMENT_TARGETS = frozenset(
     [f"{c}_indication" for c in BALANCE_COMPONENTS] + [
         "axial_force_interaction", "moment_transfer_distance", "attitude_indication",
         "flow_angularity", "reference_area", "pressure_scanner_indication",
-        "solid_blockage_correction", "wake_blockage_correction", "lift_interference_correction"])
+        "solid_blockage_correction", "wake_blockage_correction", "lift_interference_correction",
+        "scale_effect_model"])
 
 #: Targets that are the full-scale condition itself (not a test error): reported apart.
 CONDITION_TARGETS = frozenset(t.name for t in TARGETS.values() if t.name.startswith("full_scale_")
@@ -249,12 +253,13 @@ OUTPUTS: dict[str, tuple[str, str]] = {
 
 
 def measurement_outputs(components: Sequence[str], coefficients: Sequence[str],
-                        taps: Sequence[str], walls: str = "", upwash: bool = False
-                        ) -> tuple[str, ...]:
+                        taps: Sequence[str], walls: str = "", upwash: bool = False,
+                        scaled: Sequence[str] = ()) -> tuple[str, ...]:
     """Output keys of the data reduction: the attitude and area, the balance loads, each reduced
     coefficient and each tap's pressure coefficient, and with wall corrections (``walls``: the
     facility kind) the blockages, the uncorrected Mach number or speed and (``upwash``) the angle
-    correction.  (A coefficient's error is the reduced value
+    correction, and for each coefficient of ``scaled`` (a scale effect) its difference to the
+    full-scale value.  (A coefficient's error is the reduced value
     less the stated one, a constant: its statistics are the coefficient's, shifted; the
     coefficient table gives its bias.)
 
@@ -268,6 +273,7 @@ def measurement_outputs(components: Sequence[str], coefficients: Sequence[str],
                 "mach_uncorrected" if walls == "gas" else "speed_uncorrected"]
     if upwash:
         out.append("angle_correction")
+    out += [f"{c}_coefficient_to_full_scale" for c in scaled]
     return tuple(out)
 
 
@@ -285,6 +291,8 @@ def describe_output(key: str) -> tuple[str, str]:
     for name, (_, label) in COEFFICIENTS.items():
         if key == f"{name}_coefficient":
             return "1", f"{label}, as the data system reduces it"
+        if key == f"{name}_coefficient_to_full_scale":
+            return "1", f"{label}: reduced in the tunnel - full-scale value (scale effect)"
     if key.startswith("pressure_coefficient_"):
         tap = key[len("pressure_coefficient_"):]
         return "1", f"pressure coefficient Cp at tap {tap}, as the data system reduces it"

@@ -7,6 +7,7 @@ from simunc.study.measurement import (
     BALANCE_KEYS,
     MEASUREMENT_KEYS,
     OPTION_KEYS,
+    SCALE_KEYS,
     TAP_KEYS,
     WALL_KEYS,
 )
@@ -84,4 +85,5 @@ SECTION_KEYS: dict[str, tuple[str, ...]] = {
     "measurement.balance_option.full_scale": tuple(BALANCE_COMPONENTS),
     "measurement.tap": TAP_KEYS,
     "measurement.walls": WALL_KEYS,
+    "measurement.scale_effect": SCALE_KEYS,
 }

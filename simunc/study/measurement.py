@@ -12,25 +12,30 @@ import re
 from typing import Any
 
 from simunc.errors import GIVEN_LIMIT, StudyError, plain
-from simunc.physics import walls
+from simunc.physics import friction, walls
 from simunc.study.catalogue import BALANCE_COMPONENTS, COEFFICIENTS, MEASUREMENT_TARGETS
 from simunc.study.schema import (
     SCANNER_REFERENCES,
     BalanceOption,
     InputSpec,
     Measurement,
+    ScaleEffect,
     Walls,
 )
 from simunc.study.table import Table
 from simunc.units import Parsed
 
 MEASUREMENT_KEYS = ("angle_of_attack", "lift_curve_slope", "pitching_moment_slope", "walls",
+                    "scale_effect",
                     "reference_area", "full_scale_reference_area",
                     "reference_length", "reference_span", "scanner_reference", "balance",
                     "balance_option", "tap") + tuple(f"{c}_coefficient" for c in COEFFICIENTS)
 BALANCE_KEYS = ("name", "load_margin", "moment_transfer", "price") + tuple(BALANCE_COMPONENTS)
 OPTION_KEYS = ("name", "price", "capacity", "full_scale")
 TAP_KEYS = ("name", "pressure_coefficient")
+SCALE_KEYS = ("method", "line", "form_factor", "wetted_ratio", "compare") + tuple(
+    f"{c}_per_{x}" for c in COEFFICIENTS for x in ("decade", "mach"))
+SCALE_METHODS = ("friction_line", "sensitivity")
 WALL_KEYS = ("model_volume", "shape_factor", "solid_blockage", "wake_blockage", "boundary_factor",
              "blockage_uncertainty", "lift_interference_uncertainty")
 
@@ -128,8 +133,10 @@ def read_measurement(data: Any, model_length: float | None, full_scale_length: f
                 raise StudyError(t.key(key), t.data[key], "a slope within +-20 per radian "
                                  "(+-0.35 per degree)")
     walls = _walls(t, model_length, coefficients) if t.has("walls") else None
+    scale_effect = _scale_effect(t, coefficients) if t.has("scale_effect") else None
     return Measurement(
-        angle_of_attack=alpha, coefficients=coefficients, slopes=slopes, walls=walls, area_per_length2=area,
+        angle_of_attack=alpha, coefficients=coefficients, slopes=slopes, walls=walls,
+        scale_effect=scale_effect, area_per_length2=area,
         chord_per_length=chord, span_per_length=span,
         balance=balance.text("name", "balance") if capacity else "",
         capacity=capacity,
@@ -173,6 +180,67 @@ def _walls(t: Table, model_length: float | None, coefficients: dict) -> Walls:
         boundary_factor=w.number("boundary_factor", low=-2.0, high=2.0, what="a boundary "
                                  "factor between -2 and 2 (e.g. 0.125 closed, negative open)")
         if w.has("boundary_factor") else None)
+
+
+def _scale_effect(t: Table, coefficients: dict) -> ScaleEffect:
+    """``[measurement.scale_effect]`` -> :class:`ScaleEffect`."""
+    s = Table(t.data["scale_effect"], t.key("scale_effect"), SCALE_KEYS)
+    method = s.choice("method", SCALE_METHODS)
+    lines = dict(friction.FRICTION_LINES)
+    sens = {k for k in SCALE_KEYS if k.endswith(("_per_decade", "_per_mach"))}
+    if method == "friction_line":
+        for k in sens:
+            if s.has(k):
+                raise StudyError(s.key(k), s.data[k], "no sensitivity with method = "
+                                 "'friction_line' (the friction line gives the drag's)")
+        if "drag" not in coefficients:
+            raise StudyError(s.key("method"), "'friction_line'", "a balance measuring drag (the "
+                             "friction line moves the drag coefficient)")
+        compare = s.names("compare")
+        for j, name in enumerate(compare):
+            if name not in lines:
+                raise StudyError(f"{s.key('compare')}[{j}]", repr(plain(name, GIVEN_LIMIT)),
+                                 "one of " + ", ".join(repr(n) for n in lines))
+        return ScaleEffect(method="friction_line", line=s.choice("line", tuple(lines),
+                                                                  default="ittc_1957"),
+                           form_factor=s.number("form_factor", default=0.0, low=0.0, high=5.0,
+                                                what="a form factor k from 0 to 5"),
+                           wetted_ratio=s.number("wetted_ratio", low=0.0, high=100.0,
+                                                 low_open=True, what="S_wet / S_ref above 0, "
+                                                 "e.g. 5.5"),
+                           compare=compare)
+    for k in ("line", "form_factor", "wetted_ratio", "compare"):
+        if s.has(k):
+            raise StudyError(s.key(k), s.data[k], f"no {k} with method = 'sensitivity'")
+    per = {"decade": {}, "mach": {}}  # type: dict[str, dict[str, float]]
+    for k in sorted(sens):
+        if s.has(k):
+            name, _, x = k.rpartition("_per_")
+            name = name[:-len("_coefficient")] if name.endswith("_coefficient") else name
+            if name not in coefficients:
+                raise StudyError(s.key(k), s.data[k], f"a sensitivity of a coefficient this "
+                                 f"study measures ({name}_coefficient is not)")
+            per[x][name] = s.number(k, low=-1.0, high=1.0, what="a sensitivity within +-1")
+    if not per["decade"] and not per["mach"]:
+        s.require("drag_per_decade", "at least one sensitivity, e.g. drag_per_decade = -0.0015 "
+                  "(dCD / dlog10 Re)")
+    return ScaleEffect(method="sensitivity", per_decade=per["decade"], per_mach=per["mach"])
+
+
+def scale_inputs(m: Measurement | None, inputs: tuple[InputSpec, ...]) -> tuple[InputSpec, ...]:
+    """The model-form input of a friction-line scale effect with ``compare``: the fraction e of
+    the lines' spread by which the full-scale drag differs from the chosen line's prediction
+    (the model forms the spread in each trial), rectangular on [-1, 1] -- the published lines'
+    disagreement as a Type B uncertainty -- unless the study writes an input on
+    ``scale_effect_model`` itself."""
+    if m is None or m.scale_effect is None or not m.scale_effect.compare:
+        return ()
+    if any("scale_effect_model" in spec.targets for spec in inputs):
+        return ()
+    return (InputSpec("friction-line model form", "scale_effect_model", "rectangular",
+                      "half_width", Parsed(1.0, True), 1.0,
+                      f"the spread of {', '.join(m.scale_effect.compare)} about "
+                      f"{m.scale_effect.line}", "", "measurement.scale_effect.compare"),)
 
 
 def wall_inputs(data: Any, m: Measurement | None, inputs: tuple[InputSpec, ...]
@@ -302,6 +370,9 @@ def check_measurement_inputs(inputs: tuple[InputSpec, ...], m: Measurement | Non
                 needs = "pressure taps ([[measurement.tap]])"
             elif target in ("attitude_indication", "flow_angularity") and not m.capacity:
                 needs = "a balance (the angle of attack enters the balance's axis resolution)"
+            elif target == "scale_effect_model" and (
+                    m.scale_effect is None or m.scale_effect.method != "friction_line"):
+                needs = "a friction-line scale effect ([measurement.scale_effect])"
             elif target in WALL_INPUTS and (m.walls is None or (
                     target == "lift_interference_correction" and m.walls.boundary_factor is None)):
                 needs = ("a [measurement.walls] table" if m.walls is None else

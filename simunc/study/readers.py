@@ -22,7 +22,12 @@ from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.study import planning
-from simunc.study.measurement import check_measurement_inputs, read_measurement, wall_inputs
+from simunc.study.measurement import (
+    check_measurement_inputs,
+    read_measurement,
+    scale_inputs,
+    wall_inputs,
+)
 from simunc.study.catalogue import (
     GROUPS,
     QUANTITIES,
@@ -450,6 +455,7 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
             measurement.walls, test_section_area=cast(float, area)))
     check_measurement_inputs(inputs, measurement)
     inputs += wall_inputs(data, measurement, inputs)
+    inputs += scale_inputs(measurement, inputs)
     names = [i.name for i in inputs]
     for i, n in enumerate(names):
         if names.index(n) != i:

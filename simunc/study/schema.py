@@ -369,6 +369,34 @@ class Walls:
 
 
 @dataclass(frozen=True, kw_only=True)
+class ScaleEffect:
+    """How the coefficients depend on the Reynolds and Mach numbers (``[measurement.scale_effect]``).
+
+    ``method = "friction_line"``: the drag's viscous part ``(1 + k) C_F(Re) S_wet / S_ref`` on the
+    friction line ``line`` (:data:`simunc.physics.friction.FRICTION_LINES`), with ``compare``
+    the lines whose disagreement is offered as a model-form uncertainty; ``method =
+    "sensitivity"``: ``dC/dlog10 Re`` (``per_decade``) and ``dC/dM`` (``per_mach``) per
+    coefficient.  With a scale effect the stated coefficients are the full-scale values and the
+    tunnel's follow from the Reynolds and Mach numbers of each trial.
+    """
+
+    method: Literal["friction_line", "sensitivity"]
+    line: str = "ittc_1957"
+    form_factor: float = 0.0
+    wetted_ratio: float = 0.0
+    compare: tuple[str, ...] = ()
+    per_decade: Mapping[str, float] = field(default_factory=dict)
+    per_mach: Mapping[str, float] = field(default_factory=dict)
+
+    @property
+    def coefficients(self) -> tuple[str, ...]:
+        """The coefficients it moves."""
+        if self.method == "friction_line":
+            return ("drag",)
+        return tuple(dict.fromkeys(list(self.per_decade) + list(self.per_mach)))
+
+
+@dataclass(frozen=True, kw_only=True)
 class Measurement:
     """What the test measures and how (``[measurement]``), in SI.
 
@@ -421,6 +449,7 @@ class Measurement:
     option_price: float | None = None  # price of the written balance, with options
     slopes: Mapping[str, float] = field(default_factory=dict)
     walls: Walls | None = None
+    scale_effect: ScaleEffect | None = None
 
     @property
     def components(self) -> tuple[str, ...]:
@@ -436,7 +465,8 @@ class Measurement:
         return measurement_outputs(
             self.components, list(self.coefficients), self.tap_names,
             kind if self.walls is not None else "",
-            self.walls is not None and self.walls.boundary_factor is not None)
+            self.walls is not None and self.walls.boundary_factor is not None,
+            self.scale_effect.coefficients if self.scale_effect is not None else ())
 
     @property
     def coefficient_outputs(self) -> tuple[str, ...]:

@@ -96,9 +96,14 @@ def _check(args) -> int:
     solved = ", ".join(sp.solve_for) or "nothing"
     if study.kind == "gas":
         state = (f"p0 = {o['stagnation_pressure']:.6g} Pa, T0 = {o['stagnation_temperature']:.6g} K, "
-                 f"Mach = {o['mach_model']:.6g}")
+                 f"Mach = {o['mach_model']:.6g}" + (
+                     f" (set {o['mach_uncorrected']:.6g}, corrected for the walls)"
+                     if "mach_uncorrected" in o else ""))
     else:
-        state = (f"U = {o['speed']:.6g} m/s, p = {o['static_pressure']:.6g} Pa, "
+        state = (f"U = {o['speed']:.6g} m/s" + (
+                     f" (set {o['speed_uncorrected']:.6g}, corrected for the walls)"
+                     if "speed_uncorrected" in o else "")
+                 + f", p = {o['static_pressure']:.6g} Pa, "
                  f"T = {o['static_temperature']:.6g} K")
     groups = "; ".join(f"{b.output} = {o[b.output]:.6g}" for b in study.bands)
     print(f"set point ({solved} solved, {sp.method}): {state}, model reference length = "

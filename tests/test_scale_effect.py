@@ -129,3 +129,19 @@ def test_model_size_trade_gives_the_bias_at_each_size(prep):
     re_m = row["reynolds_ratio"] * re_f
     assert row["drag_bias_to_full_scale"] == pytest.approx(
         1.3 * 5.5 * (ittc(re_m) - ittc(re_f)), rel=1e-9)
+
+
+def test_a_full_scale_input_moves_the_full_scale_value_only(prep):
+    # The tunnel's coefficient depends on the tunnel's Reynolds number only: a full-scale
+    # temperature deviation leaves the model's Re and the reduced CD alone and moves the
+    # full-scale CD by the ITTC-line increment (1 + k) S_wet/S_ref (C_F(Re_f') - C_F(Re_f)).
+    model = prep.model
+    x = dict(prep.setpoint.nominal)
+    y0, y = model(x), model({**x, "full_scale_temperature": 5.0})
+    assert float(y["reynolds_model"]) == pytest.approx(float(y0["reynolds_model"]), rel=1e-15)
+    assert float(y["drag_coefficient"]) == pytest.approx(float(y0["drag_coefficient"]),
+                                                         rel=1e-15)
+    re_f0, re_f = float(y0["reynolds_full_scale"]), float(y["reynolds_full_scale"])
+    full_shift = 1.3 * 5.5 * (ittc(re_f) - ittc(re_f0))
+    assert float(y["drag_coefficient_to_full_scale"]) == pytest.approx(
+        float(y0["drag_coefficient_to_full_scale"]) - full_shift, rel=1e-9)

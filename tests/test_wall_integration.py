@@ -134,3 +134,59 @@ def test_wall_mistakes_are_refused(old, new, key):
     with pytest.raises(StudyError) as err:
         parse_study(tomllib.loads(STUDY.replace(old, new)))
     assert err.value.key == key
+
+
+LIQUID = """
+title = "water tunnel with walls (invented inputs)"
+[full_scale]
+fluid = "fresh_water"
+static_temperature = "15 degC"
+speed = "8 m/s"
+reference_length = "2 m"
+static_pressure = "150 kPa"
+[facility]
+fluid = "fresh_water"
+temperature = "20 degC"
+speed_range = ["1 m/s", "12 m/s"]
+static_pressure = "120 kPa"
+test_section_area = "0.5 m^2"
+[model]
+scale = 0.1
+[match]
+solve_for = "speed"
+reynolds = { tolerance = "50 %" }
+[measurement]
+lift_coefficient = 0.3
+drag_coefficient = 0.02
+pitching_moment_coefficient = -0.02
+reference_area = "0.02 m^2"
+[measurement.balance]
+normal_force = "2 kN"
+axial_force = "200 N"
+pitching_moment = "100 N*m"
+[measurement.walls]
+solid_blockage = 0.01
+wake_blockage = 0.002
+"""
+
+
+def test_liquid_walls_keep_the_total_head():
+    # A liquid: the model sees U (1 + eps) and, the total head p + rho U^2 / 2 being kept
+    # (Bernoulli), a static pressure lower by rho/2 (U_c^2 - U_u^2): the cavitation number at the
+    # model follows from that pressure.
+    study = parse_study(tomllib.loads(LIQUID))
+    sp = solve(study)
+    model = build_model(study)
+    free = build_model(parse_study(tomllib.loads(LIQUID.replace(
+        "[measurement.walls]\nsolid_blockage = 0.01\nwake_blockage = 0.002\n", ""))))
+    y, y0 = model(dict(sp.nominal)), free(dict(sp.nominal))
+    u_u = float(y["speed_uncorrected"])
+    assert float(y0["speed"]) == pytest.approx(u_u, rel=1e-12)
+    assert float(y["speed"]) == pytest.approx(u_u * 1.012, rel=1e-12)
+    rho = float(y0["density"])
+    drop = 0.5 * rho * (float(y["speed"]) ** 2 - u_u**2)
+    assert float(y["static_pressure"]) == pytest.approx(float(y0["static_pressure"]) - drop,
+                                                        rel=1e-9)
+    # the stagnation pressure is unchanged (to the density change of water over that drop)
+    assert float(y["stagnation_pressure"]) == pytest.approx(float(y0["stagnation_pressure"]),
+                                                            rel=1e-6)

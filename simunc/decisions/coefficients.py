@@ -20,6 +20,10 @@ from simunc.decisions.pretest import PressureChart, pressure_chart, scale_trade
 from simunc.study.catalogue import describe_output
 from simunc.units import COUNT
 
+#: Total blockage beyond which the classical small-model wall corrections are not trusted
+#: (common practice, no source: "a few per cent").
+LARGE_BLOCKAGE = 0.02
+
 #: Caution on balance loads, shown beside the utilisation (the report defers to the facility).
 LOAD_CAUTION = (
     "The loads here are the steady aerodynamic loads at the set point from the pre-test "
@@ -129,8 +133,15 @@ def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFr
     if m is None:
         return None
     table = coefficient_table(st, statistics, sobol)
+    eps = prep.setpoint.outputs.get("blockage")
+    large = eps is not None and abs(float(eps)) > LARGE_BLOCKAGE
     use = utilisation(m, prep.setpoint.outputs) if m.capacity else None
     warnings, notes = [], []
+    if large:
+        warnings.append(f"the walls' total blockage at the set point is {100 * float(eps):.2g} %: "
+                        f"beyond about {100 * LARGE_BLOCKAGE:g} % the classical small-model "
+                        "corrections (and their compressible factors near Mach 1) do not hold; "
+                        "use the facility's own factors, ventilated walls or a smaller model")
     if use is not None:
         for _, r in use.iterrows():
             name = str(r["component"]).replace("_", " ")

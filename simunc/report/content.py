@@ -42,9 +42,13 @@ def _state_line(st, o) -> str:
     scale = st.full_scale.reference_length / o["model_length"]
     model = f"model reference length {o['model_length'] * 1e3:.2f} mm (scale 1:{scale:.4g})"
     if st.kind == "gas":
+        walls = (f" (the tunnel set to Mach {o['mach_uncorrected']:.4f}, corrected for the walls)"
+                 if "mach_uncorrected" in o else "")
         return (f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation "
-                f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f} "
-                f"(U = {o['speed']:.4g} m/s), {model}.")
+                f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}"
+                f"{walls} (U = {o['speed']:.4g} m/s), {model}.")
+    if "speed_uncorrected" in o:
+        model += f"; the speed set to {o['speed_uncorrected']:.4g} m/s, corrected for the walls"
     return (f"Speed {o['speed']:.4g} m/s, static pressure {o['static_pressure'] / 1e3:.4g} kPa, "
             f"temperature {o['static_temperature']:.2f} K, {model}.")
 

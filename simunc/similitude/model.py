@@ -149,6 +149,7 @@ class SimilitudeModel:
                      + d("speed_control"))
             speed_rec = np.asarray(x["speed"], dtype=float) + d("speed_control")
             blocked = self._blockage(x, d, 0.0, 0.0)
+            speed_u, speed_rec_u = speed, speed_rec
             if blocked is not None:  # the model sees the stream the walls speed up
                 blocked["speed_uncorrected"] = speed
                 speed = walls.corrected_speed(speed, blocked["blockage"])
@@ -160,6 +161,9 @@ class SimilitudeModel:
                  + d("temperature_control"))
             p = flow.hydrostatic_pressure(p_surface, f.density(p_surface, t, **params), depth,
                                           STANDARD_GRAVITY)
+            if blocked is not None:  # the total head is kept: the faster stream's static falls
+                p = p - (flow.kinetic_pressure(f.density(p, t, **params), speed)
+                         - flow.kinetic_pressure(f.density(p, t, **params), speed_u))
             a = f.speed_of_sound(p, t, **params) * _sound_factor(d("density_model"))
             mach = speed / a
             rho = f.density(p, t, **params) * (1.0 + d("density_model"))
@@ -170,6 +174,10 @@ class SimilitudeModel:
             t_rec = np.asarray(x["temperature"], dtype=float) + d("temperature_control")
             p_rec = flow.hydrostatic_pressure(p_rec, f.density(p_rec, t_rec, **nominal), depth,
                                               STANDARD_GRAVITY)
+            if blocked is not None:
+                rho_rec = f.density(p_rec, t_rec, **nominal)
+                p_rec = p_rec - (flow.kinetic_pressure(rho_rec, speed_rec)
+                                 - flow.kinetic_pressure(rho_rec, speed_rec_u))
             mach_rec = speed_rec / f.speed_of_sound(p_rec, t_rec, **nominal)
             p0_rec = p_rec + flow.kinetic_pressure(f.density(p_rec, t_rec, **nominal), speed_rec)
         mu = f.viscosity(p, t, **params) * (1.0 + d("viscosity_model"))
@@ -250,33 +258,39 @@ class SimilitudeModel:
         }
         return {name: formulas[name]() for name in names}
 
-    def _scale_increments(self, re_model, re_full, mach_model, mach_full) -> tuple[dict, object]:
-        """Coefficient increments of the tunnel over full scale, ``C(Re_model, M_model) -
-        C(Re_full, M_full)``, per coefficient of the scale effect, and (friction line with
-        ``compare``) the largest difference of a compared line's drag increment from the chosen
-        line's (the model-form spread; 0 without).
+    def _scale_increments(self, re_model, re_full, mach_model, mach_full, re_stated,
+                          mach_stated) -> tuple[dict, dict, object]:
+        """Coefficient increments over the stated full-scale condition (``re_stated``,
+        ``mach_stated``: no deviation), ``C(Re, M) - C(Re_stated, M_stated)``, of the tunnel
+        (``re_model``, ``mach_model``) and of the trial's full scale (``re_full``, ``mach_full``),
+        per coefficient of the scale effect, and (friction line with ``compare``) the largest
+        difference of a compared line's tunnel-to-full-scale drag increment from the chosen line's
+        (the model-form spread; 0 without).
 
         Friction line: ``C_D,visc = (1 + k) C_F(Re) S_wet / S_ref`` (:mod:`simunc.physics.friction`);
         sensitivity: ``dC/dlog10 Re (log10 Re_model - log10 Re_full) + dC/dM (M_model - M_full)``.
         """
         s = cast(Measurement, self.measurement).scale_effect
         if s is None:
-            return {}, 0.0
+            return {}, {}, 0.0
         if s.method == "friction_line":
-            def increment(line):
-                return (friction.friction_drag(line, re_model, s.form_factor, s.wetted_ratio)
-                        - friction.friction_drag(line, re_full, s.form_factor, s.wetted_ratio))
-            main = increment(s.line)
+            def increment(line, re):
+                return (friction.friction_drag(line, re, s.form_factor, s.wetted_ratio)
+                        - friction.friction_drag(line, re_stated, s.form_factor, s.wetted_ratio))
+            tunnel, full = increment(s.line, re_model), increment(s.line, re_full)
             spread = 0.0
             for line in s.compare:
-                spread = np.maximum(spread, np.abs(increment(line) - main))
-            return {"drag": main}, spread
-        out = {}
-        decades = np.log10(re_model) - np.log10(re_full)
+                other = increment(line, re_model) - increment(line, re_full)
+                spread = np.maximum(spread, np.abs(other - (tunnel - full)))
+            return {"drag": tunnel}, {"drag": full}, spread
+        tunnel, full = {}, {}
         for name in s.coefficients:
-            out[name] = (s.per_decade.get(name, 0.0) * decades
-                         + s.per_mach.get(name, 0.0) * (mach_model - mach_full))
-        return out, 0.0
+            per_decade, per_mach = s.per_decade.get(name, 0.0), s.per_mach.get(name, 0.0)
+            tunnel[name] = (per_decade * (np.log10(re_model) - np.log10(re_stated))
+                            + per_mach * (mach_model - mach_stated))
+            full[name] = (per_decade * (np.log10(re_full) - np.log10(re_stated))
+                          + per_mach * (mach_full - mach_stated))
+        return tunnel, full, 0.0
 
     def _reduction(self, x, d, fac: dict, q, q_rec, similarity=None) -> dict:
         """The data reduction of one trial: true loads, balance and scanner readings, and the
@@ -313,8 +327,8 @@ class SimilitudeModel:
         if m.walls is not None and m.walls.boundary_factor is not None:
             out["angle_correction"] = upwash * (1.0 + d("lift_interference_correction"))
         c = dict(m.coefficients)
-        increments, spread = self._scale_increments(*similarity) if similarity is not None \
-            and m.scale_effect is not None else ({}, 0.0)
+        increments, at_full, spread = self._scale_increments(*similarity) \
+            if similarity is not None else ({}, {}, 0.0)
         for name, inc in increments.items():  # the tunnel's coefficient from full scale's
             c[name] = c[name] + inc
         for name, slope in m.slopes.items():  # the coefficient at the true angle
@@ -353,8 +367,8 @@ class SimilitudeModel:
         for name in m.capacity:
             out[name] = true[name]
         for name in increments:  # taking the tunnel's value for full scale's
-            full = m.coefficients[name] + (d("scale_effect_model") * spread if name == "drag"
-                                           else 0.0)
+            full = m.coefficients[name] + at_full[name] + (
+                d("scale_effect_model") * spread if name == "drag" else 0.0)
             out[f"{name}_coefficient_to_full_scale"] = out[f"{name}_coefficient"] - full
         if m.taps:
             # Cp = (p_tap - p_ref + e + p_ref,recorded - p_recorded) / q_recorded with
@@ -447,8 +461,16 @@ class SimilitudeModel:
             else:
                 out[f"{name}_ratio"] = gm[name] / gf[name]
         if self.measurement is not None:
-            out.update(self._reduction(x, d, fac, q, q_rec, (
-                gm["reynolds"], gf["reynolds"], fac["mach"], fs["mach"])))
+            similarity = None
+            if self.measurement.scale_effect is not None:
+                # the full-scale condition as stated (no deviation): the anchor of the stated
+                # coefficients, so that a full-scale input moves the full-scale value only
+                fs0 = self._full_scale(x, lambda name: 0.0,
+                                       {k: np.asarray(x[k], dtype=float) for k in fac["params"]})
+                re0 = self._groups(fs0, fs_length, None, ("reynolds",))["reynolds"]
+                similarity = (gm["reynolds"], gf["reynolds"], fac["mach"], fs["mach"], re0,
+                              fs0["mach"])
+            out.update(self._reduction(x, d, fac, q, q_rec, similarity))
         if fac["blocked"] is not None:
             out.update({k: v for k, v in fac["blocked"].items() if k != "recorded"})
         if self.custom_groups:

@@ -164,6 +164,10 @@ def _walls(t: Table, model_length: float | None, coefficients: dict) -> Walls:
     if not w.has("wake_blockage") and "drag" not in coefficients:
         w.require("wake_blockage", "the wake blockage as a number, or a balance measuring drag "
                   "(the classical wake blockage follows from the drag coefficient)")
+    if w.has("lift_interference_uncertainty") and not w.has("boundary_factor"):
+        raise StudyError(w.key("lift_interference_uncertainty"),
+                         w.data["lift_interference_uncertainty"], "a lift-interference "
+                         "uncertainty only with boundary_factor (the correction it is of)")
     if w.has("boundary_factor") and "lift" not in coefficients:
         raise StudyError(w.key("boundary_factor"), w.data["boundary_factor"], "a lift-"
                          "interference factor only with a balance measuring lift")
@@ -185,6 +189,7 @@ def _walls(t: Table, model_length: float | None, coefficients: dict) -> Walls:
 def _scale_effect(t: Table, coefficients: dict) -> ScaleEffect:
     """``[measurement.scale_effect]`` -> :class:`ScaleEffect`."""
     s = Table(t.data["scale_effect"], t.key("scale_effect"), SCALE_KEYS)
+    s.require("method", "'friction_line' or 'sensitivity'")
     method = s.choice("method", SCALE_METHODS)
     lines = dict(friction.FRICTION_LINES)
     sens = {k for k in SCALE_KEYS if k.endswith(("_per_decade", "_per_mach"))}
@@ -197,12 +202,13 @@ def _scale_effect(t: Table, coefficients: dict) -> ScaleEffect:
             raise StudyError(s.key("method"), "'friction_line'", "a balance measuring drag (the "
                              "friction line moves the drag coefficient)")
         compare = s.names("compare")
+        line = s.choice("line", tuple(lines), default="ittc_1957")
         for j, name in enumerate(compare):
-            if name not in lines:
+            if name not in lines or name == line or name in compare[:j]:
                 raise StudyError(f"{s.key('compare')}[{j}]", repr(plain(name, GIVEN_LIMIT)),
-                                 "one of " + ", ".join(repr(n) for n in lines))
-        return ScaleEffect(method="friction_line", line=s.choice("line", tuple(lines),
-                                                                  default="ittc_1957"),
+                                 "another friction line than the chosen one, once: one of "
+                                 + ", ".join(repr(n) for n in lines if n != line))
+        return ScaleEffect(method="friction_line", line=line,
                            form_factor=s.number("form_factor", default=0.0, low=0.0, high=5.0,
                                                 what="a form factor k from 0 to 5"),
                            wetted_ratio=s.number("wetted_ratio", low=0.0, high=100.0,

@@ -190,6 +190,10 @@ def _run_locked(args, study) -> int:
 
         for line in summary_lines(result):
             print(unmarked(line))
+    e = result.extrapolation
+    if e is not None:
+        print(f"extrapolated to full-scale Re (ratio {e.ratio:.3g}): drag coefficient "
+              f"{e.estimate:.5f}, U ({100 * e.probability:g} %) = {e.U_counts:.2g} counts")
     if result.tightening is not None and result.tightening["controllable"].any():
         t = result.tightening
         print(f"control more tightly first: {plain(t[t['controllable']].index[0])}")

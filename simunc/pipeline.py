@@ -23,6 +23,7 @@ from threadpoolctl import threadpool_limits
 
 from simunc.decisions.allocation import Allocation, allocate, input_limits
 from simunc.decisions.coefficients import CoefficientStage, coefficient_stage
+from simunc.decisions.extrapolation import Extrapolation, extrapolate
 from simunc.decisions.design import (
     DESIGN_STREAM,
     VERIFY_STREAM,
@@ -99,6 +100,9 @@ class Result:
     #: The measured coefficients, balance utilisation, pre-test chart and model-size trade
     #: (a study with a [measurement] section).
     coefficients: CoefficientStage | None = None
+    #: The split-test plan's runs extrapolated to full scale (a study with a scale effect whose
+    #: Reynolds number falls short).
+    extrapolation: Extrapolation | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -681,16 +685,18 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         progress("pre-test chart and model-size trade", 0, 1)
     coef = coefficient_stage(prep, mc.statistics, sens.sobol)
     study, setpoint, model = prep.study, prep.setpoint, prep.model
+    test_plan = plan(study, model, setpoint)
     return Result(
         study=study, settings=prep.settings, setpoint=setpoint, inputs=prep.inputs,
         trials=mc.engine.trials, seed=prep.settings.seed, statistics=mc.statistics,
         conformity=mc.conformity, sobol=sens.sobol, ranking=sens.ranking,
         warnings=tuple(mc.warnings) + (coef.warnings if coef is not None else ()),
         input_values=mc.engine.x, output_values=mc.engine.y, preview=mc.preview, engine=mc.engine,
-        envelope=envelope(study, model, setpoint), test_plan=plan(study, model, setpoint),
+        envelope=envelope(study, model, setpoint), test_plan=test_plan,
         pi_groups=tuple(study.dimensional_analysis.groups) if study.dimensional_analysis else None,
         lpu=gum.lpu, validation=gum.validation, components=gum.components,
         sobol_result=sens.sobol_result, shapley=sens.shapley, tightening=dec.tightening,
         requirement_checks=dec.requirement_checks, input_limits=dec.input_limits,
         allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials,
-        correlated_scaling=dec.correlated_scaling, coefficients=coef)
+        correlated_scaling=dec.correlated_scaling, coefficients=coef,
+        extrapolation=extrapolate(prep, test_plan))

@@ -145,3 +145,40 @@ def test_a_full_scale_input_moves_the_full_scale_value_only(prep):
     full_shift = 1.3 * 5.5 * (ittc(re_f) - ittc(re_f0))
     assert float(y["drag_coefficient_to_full_scale"]) == pytest.approx(
         float(y0["drag_coefficient_to_full_scale"]) - full_shift, rel=1e-9)
+
+
+def test_extrapolation_variance_is_the_least_squares_prediction_variance():
+    # Runs A and B of the split-test plan with one random error per run (the axial force, a
+    # rectangular % of reading, so every run's CD noise has the same sigma = r |A / (q S)|
+    # cos(alpha) / sqrt(3), D = N sin a + A cos a, Anderson eqs. 1.1-1.2) and a stated law in
+    # log10 Re: the line fitted through K runs and read at x_f has the variance
+    # sigma^2 (1/K + (x_f - mean x)^2 / S_xx) (N. R. Draper, H. Smith, Applied Regression
+    # Analysis, 3rd ed., Wiley, 1998, section 1.4; from memory of that book).
+    from simunc.decisions.extrapolation import extrapolate
+    from simunc.similitude.testplan import plan
+
+    text = STUDY.replace('method = "friction_line"\nline = "ittc_1957"\nform_factor = 0.3\n'
+                         'wetted_ratio = 5.5\ncompare = ["prandtl_schlichting"]',
+                         'method = "sensitivity"\ndrag_per_decade = -0.000001')
+    text = text.replace('''[[uncertain]]
+name = "p0 transducer"
+perturbs = "stagnation_pressure_indication"
+expanded_uncertainty = "0.06 %"
+coverage_factor = 2''', '''[[uncertain]]
+name = "axial force"
+perturbs = "axial_force_indication"
+distribution = "rectangular"
+half_width = "0.5 %"
+component = "random"''')
+    prep = prepare(parse_study(tomllib.loads(text)))
+    tp = plan(prep.study, prep.model, prep.setpoint)
+    ext = extrapolate(prep, tp, trials=40_000)
+    x = np.log10(ext.runs["reynolds"].to_numpy())
+    x_f = math.log10(ext.reynolds_full_scale)
+    k = len(x)
+    a = math.radians(2.0)
+    sigma = 0.005 * abs(0.027 * math.cos(a) - 0.5 * math.sin(a)) * math.cos(a) / math.sqrt(3.0)
+    expected = sigma * math.sqrt(1.0 / k + (x_f - x.mean()) ** 2 / ((x - x.mean()) ** 2).sum())
+    assert k == 4 and ext.ratio > 2.0
+    assert ext.u == pytest.approx(expected, rel=0.03)
+    assert abs(ext.bias) < 4.0 * expected / math.sqrt(40_000)

@@ -82,7 +82,7 @@ def _sample(prep, trials: int) -> tuple[np.ndarray, int]:
     return x, seed
 
 
-def _inputs_at(prep, outputs, balance=None) -> list[UncertainInput]:
+def inputs_at(prep, outputs, balance=None) -> list[UncertainInput]:
     """The study's inputs resolved at the readings ``outputs`` (on the balance ``(name,
     capacity, full_scale)``): sizes in % of reading, shared-error factors and balance
     accuracies as they are there."""
@@ -93,7 +93,7 @@ def _inputs_at(prep, outputs, balance=None) -> list[UncertainInput]:
     return build_inputs(specs, replace(prep.setpoint, outputs=outputs))
 
 
-def _moved(x: np.ndarray, old, new) -> np.ndarray:
+def moved(x: np.ndarray, old, new) -> np.ndarray:
     """The common-random-number sample of the inputs ``old`` carried to the inputs ``new``: each
     column multiplied by the ratio of the standard uncertainties (exact for the location-scale
     families of mean zero: normal, t, the bounded ones, the lognormal e = R (F - 1)); a
@@ -169,9 +169,9 @@ def pressure_chart(prep, *, points: int = CHART_POINTS, trials: int = PRETEST_TR
     for i, g in enumerate(grid):
         at = {k: float(np.asarray(v)[i]) for k, v in y0.items()}
         for b in balances:
-            new = _inputs_at(prep, at, b)
+            new = inputs_at(prep, at, b)
             spread = _spread(model, sp, {**nominal, axis: float(g)}, new,
-                             _moved(x, prep.inputs, new), p)
+                             moved(x, prep.inputs, new), p)
             for o in outs:
                 expanded[b[0]][o][i] = spread[o]
             fits[b[0]][i] = carries(m, at, b[1])
@@ -210,8 +210,8 @@ def scale_trade(prep, *, factors=SCALE_FACTORS, trials: int = PRETEST_TRIALS
                         unknowns=tuple(u for u in st.unknowns if u != "model_length"))
         other: SetPoint = sp if length == length0 else solve(sized, prep.model)
         out = other.outputs
-        new = _inputs_at(prep, out)
-        spread = _spread(prep.model, other, other.nominal, new, _moved(x, prep.inputs, new),
+        new = inputs_at(prep, out)
+        spread = _spread(prep.model, other, other.nominal, new, moved(x, prep.inputs, new),
                          probabilities(st, outs))
         blockage = (fs.frontal_area * (length / fs.reference_length) ** 2 / fac.test_section_area
                     if fs.frontal_area and fac.test_section_area else math.nan)

@@ -78,6 +78,18 @@ def coefficient_blocks(result) -> list[Block]:
                        "one for the other, with its uncertainty: data reduction, the scatter of "
                        "the achieved Reynolds number and the model form):"))
         b.append(Block("table", table(c.scale)))
+    e = result.extrapolation
+    if e is not None:
+        pe = f"{100 * e.probability:g} %"
+        b.append(Block("paragraph", f"Extrapolation of the split-test plan to full scale "
+                       f"({lit(e.law)}; {e.trials} simulated tests, systematic errors shared by "
+                       "the runs of a test, random errors drawn anew in each run): the drag of "
+                       "the runs at the matched primary group fitted against the law's regressor "
+                       f"and read at Re = {e.reynolds_full_scale:.4g} (extrapolation ratio "
+                       f"{e.ratio:.3g}): C_D = {e.estimate:.5f}, U ({pe}) = {e.U:.2g} "
+                       f"({e.U_counts:.2g} counts) about the true full-scale value, bias "
+                       f"{e.bias:.2g}."))
+        b.append(Block("table", table(e.runs)))
     if c.utilisation is not None:
         b.append(Block("paragraph", f"Balance utilisation at the set point ({lit(m.balance)}, "
                        f"load margin {100 * m.load_margin:g} %):"))

@@ -193,6 +193,12 @@ def results_dict(result) -> dict:
              "formula": g.formula} for g in result.pi_groups],
         "output_units": {k: row["unit"] for k, row in result.statistics.iterrows()},
         "coefficients": _coefficients(result.coefficients),
+        "extrapolation": None if result.extrapolation is None else {
+            "law": result.extrapolation.law,
+            "runs": result.extrapolation.runs.to_dict(orient="records"),
+            **{k: getattr(result.extrapolation, k) for k in (
+                "reynolds_full_scale", "ratio", "estimate", "full_scale", "bias", "u", "U",
+                "U_counts", "probability", "trials", "seed")}},
     }
     return _clean(doc)
 

@@ -119,3 +119,34 @@ def test_no_plan_when_matched():
     study = parse_study(base_study())
     model = build_model(study)
     assert plan(study, model, solve(study, model)).runs == []
+
+
+def test_a_sweep_that_covers_too_little_is_flagged():
+    # An atmospheric tunnel: p0 is the day's barometer (0.95 to 1.03 bar), so a Reynolds sweep at
+    # the matched Mach number covers 1.03 / 0.95 = 1.084 of Re (Re proportional to p0 at fixed
+    # Mach number and T0: Re = rho U L / mu, rho proportional to p at fixed T), far too little to
+    # fit a trend (a factor of two wanted: common practice, no source).
+    import tomllib
+
+    text = """
+[full_scale]
+altitude = "11000 m"
+mach = 0.3
+reference_length = "3.2 m"
+[facility]
+gas = "dry_air"
+stagnation_temperature = "295 K"
+stagnation_pressure_range = ["0.95 bar", "1.03 bar"]
+mach_range = [0.05, 0.5]
+[model]
+scale = 0.1
+[match]
+solve_for = "stagnation_pressure"
+reynolds = { tolerance = "2 %" }
+mach = { tolerance = "0.002" }
+"""
+    study = parse_study(tomllib.loads(text))
+    tp = plan(study, build_model(study), solve(study))
+    lo, hi = tp.reynolds_covered
+    assert hi / lo == pytest.approx(1.03 / 0.95, rel=1e-3)
+    assert any("too little to fit a trend" in n for n in tp.notes)

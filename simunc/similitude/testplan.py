@@ -29,6 +29,9 @@ from simunc.study.schema import Study
 
 #: Reynolds-number levels of the sweep (runs B), including the lowest and run A.
 SWEEP_POINTS = 4
+#: A sweep covering less than this factor of Reynolds number is too short to fit a trend
+#: (common practice, no source).
+TREND_FACTOR = 2.0
 
 
 @dataclass(frozen=True)
@@ -123,4 +126,12 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     notes.append(f"Reynolds numbers covered at {name} matched: {re_lo:.4g} to {re_hi:.4g} against "
                  f"{re_fs:.4g} at full scale; extrapolation ratio Re_full / Re_A = {ratio:.3g} "
                  f"({math.log10(ratio):.2f} decades).")
+    if held and re_hi < TREND_FACTOR * re_lo:
+        lever = ("sweep the speed instead (runs off the matched Mach number, whose "
+                 "compressibility effect the extrapolation then carries) or the model size"
+                 if study.kind == "gas" else "test models of several sizes instead (a geosim "
+                 "series) or add runs off the matched primary group")
+        notes.append(f"The Reynolds sweep covers only a factor {re_hi / re_lo:.3g} of Reynolds "
+                     f"number, too little to fit a trend (at least {TREND_FACTOR:g} wanted): "
+                     f"the facility's levers at {name} matched barely move it; {lever}.")
     return TestPlan(primary[0].group, runs, (re_lo, re_hi), re_fs, ratio, notes)

@@ -129,6 +129,13 @@ def option_scale(inp: UncertainInput, m: Measurement, capacity: Mapping[str, flo
         / inp.standard_uncertainty
 
 
+def balances(m: Measurement) -> list[tuple[str, Mapping[str, float], Mapping[str, float], float]]:
+    """The written balance and each option: ``(name, capacity, full_scale, price)`` (the written
+    one with no %FS of its own: its inputs as written)."""
+    return [(m.balance, m.capacity, {}, m.option_price or 0.0)] + [
+        (o.name, o.capacity, o.full_scale, o.price) for o in m.options]
+
+
 @dataclass(frozen=True, kw_only=True)
 class Choices:
     """The balance as one grade choice: inputs it acts on, candidates, and who was left out."""
@@ -144,10 +151,7 @@ def choices(inputs: Sequence[UncertainInput], m: Measurement,
     """The written balance and its options that carry the loads (module docstring)."""
     idx = balance_inputs(inputs, m)
     cands, out = [], []
-    every: list[tuple[str, Mapping[str, float], Mapping[str, float], float]] = [
-        (m.balance, m.capacity, {}, m.option_price or 0.0)] + [
-        (o.name, o.capacity, o.full_scale, o.price) for o in m.options]
-    for name, cap, fs, price in every:
+    for name, cap, fs, price in balances(m):
         if not carries(m, outputs, cap):
             worst = max(cap, key=lambda c: abs(float(outputs[c])) / cap[c])
             out.append(f"{name}: {worst.replace('_', ' ')} {abs(float(outputs[worst])):.4g} of "

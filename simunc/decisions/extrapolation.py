@@ -106,7 +106,7 @@ def extrapolate(prep, plan, *, trials: int = EXTRAPOLATION_TRIALS) -> Extrapolat
                           trials).draw(0, [trials])
     systematic = np.array([i.component == "systematic" for i in prep.inputs])
     sp = prep.setpoint
-    cd, re, full = [], [], None
+    cd, full = [], None
     for k, run in enumerate(runs, start=1):
         own = InputSampler(prep.problem.distributions, stream_seed(seed, k), "random",
                            prep.copula if prep.correlation is not None else None,
@@ -117,15 +117,14 @@ def extrapolate(prep, plan, *, trials: int = EXTRAPOLATION_TRIALS) -> Extrapolat
         problem = similitude_problem(prep.model, replace(sp, nominal=dict(run.state)), new)
         y = problem.evaluate(moved(x, prep.inputs, new))
         cd.append(np.asarray(y["drag_coefficient"], dtype=float))
-        re.append(np.asarray(y["reynolds_model"], dtype=float))
         truth = np.asarray(y["drag_coefficient"]) - np.asarray(y["drag_coefficient_to_full_scale"])
         full = truth if full is None else full  # the same in every run: full scale's own inputs
     assert full is not None
-    y_cd, x_re = np.column_stack(cd), np.column_stack(re)
+    y_cd = np.column_stack(cd)
     se = m.scale_effect
-    # The data system knows each run's recorded Reynolds number only as nominal: fit against
-    # the runs' nominal Reynolds numbers, extrapolate to the stated full-scale one.
-    re_nominal = np.array([float(np.mean(r)) for r in re])
+    # The test knows each run's Reynolds number as planned: fit against the runs' nominal
+    # Reynolds numbers, extrapolate to the stated full-scale one.
+    re_nominal = np.array([float(r.outputs["reynolds_model"]) for r in runs])
     re_full = float(sp.outputs["reynolds_full_scale"])
     xs = np.broadcast_to(regressor(se, re_nominal)[None, :], y_cd.shape)
     estimate = fit_and_predict(xs, y_cd, regressor(se, re_full))

@@ -29,7 +29,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 import pandas as pd
 
-from simunc.decisions.balance import balance_spec, carries, utilisation
+from simunc.decisions.balance import balance_spec, balances, carries, utilisation
 from simunc.decisions.design import stream_seed
 from simunc.similitude.inputs import UncertainInput, build_inputs, similitude_problem
 from simunc.similitude.setpoint import SetPoint, largest_model, solve
@@ -109,11 +109,6 @@ def moved(x: np.ndarray, old, new) -> np.ndarray:
     return out
 
 
-def _balances(m) -> list[tuple[str, dict, dict]]:
-    return [(m.balance, dict(m.capacity), {})] + [(o.name, dict(o.capacity), dict(o.full_scale))
-                                                  for o in m.options]
-
-
 def probabilities(study, outputs) -> dict[str, float]:
     """p of U for each output: that of the requirement on it, else the run's."""
     out = {}
@@ -162,13 +157,13 @@ def pressure_chart(prep, *, points: int = CHART_POINTS, trials: int = PRETEST_TR
     y0 = model(states)
     x, seed = _sample(prep, trials)
     p = probabilities(st, outs)
-    balances = _balances(m)
+    every = balances(m)
     expanded: dict[str, dict[str, np.ndarray]] = {b[0]: {o: np.empty(points) for o in outs}
-                                                  for b in balances}
-    fits: dict[str, np.ndarray] = {b[0]: np.empty(points, dtype=bool) for b in balances}
+                                                  for b in every}
+    fits: dict[str, np.ndarray] = {b[0]: np.empty(points, dtype=bool) for b in every}
     for i, g in enumerate(grid):
         at = {k: float(np.asarray(v)[i]) for k, v in y0.items()}
-        for b in balances:
+        for b in every:
             new = inputs_at(prep, at, b)
             spread = _spread(model, sp, {**nominal, axis: float(g)}, new,
                              moved(x, prep.inputs, new), p)

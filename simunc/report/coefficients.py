@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from simunc.decisions.coefficients import LOAD_CAUTION
-from simunc.report.blocks import Block, fmt, table
+from simunc.report.blocks import Block, table
 from simunc.report.text import lit
 from simunc.units import COUNT
 

@@ -35,7 +35,6 @@ from simunc.study.catalogue import (
     CustomGroup,
     formed_groups,
     formed_outputs,
-    measurement_outputs,
     output_key,
 )
 from simunc.study.keys import (

@@ -166,8 +166,11 @@ def _run_locked(args, study) -> int:
                                              "sweep": ("sweeps",), "allocate": ("requirements",)}
     parts, extra = parts_of[args.command], ()
     if args.command == "allocate" and not study.requirements:
-        raise StudyError("requirement", "no [[requirement]] tables", "at least one requirement "
-                         "for 'simunc allocate' (see docs/study-file.md)")
+        only_plan = bool(study.plan_requirements)
+        raise StudyError("requirement", "only a requirement on the extrapolated drag, which the "
+                         "number of sweep runs meets (simunc run reports it)" if only_plan
+                         else "no [[requirement]] tables", "at least one requirement on a "
+                         "tolerance-driven output for 'simunc allocate' (see docs/study-file.md)")
     if args.command == "sweep":
         extra = _cli_sweeps(args, study)
     if args.samples:
@@ -191,9 +194,16 @@ def _run_locked(args, study) -> int:
         for line in summary_lines(result):
             print(unmarked(line))
     e = result.extrapolation
-    if e is not None:
-        print(f"extrapolated to full-scale Re (ratio {e.ratio:.3g}): drag coefficient "
-              f"{e.estimate:.5f}, U ({100 * e.probability:g} %) = {e.U_counts:.2g} counts")
+    if e is not None or study.plan_requirements:
+        from simunc.report.coefficients import extrapolation_lines
+        from simunc.report.text import two_digits, unmarked
+
+        if e is not None:
+            print(f"extrapolated to full-scale Re (ratio {e.ratio:.3g}): drag coefficient "
+                  f"{e.estimate:.5f}, U ({100 * e.probability:g} %) = "
+                  f"{two_digits(e.U_counts)} counts")
+        for line in extrapolation_lines(result)[0 if e is None else 1:]:
+            print(unmarked(line))
     if result.tightening is not None and result.tightening["controllable"].any():
         t = result.tightening
         print(f"control more tightly first: {plain(t[t['controllable']].index[0])}")

@@ -1,4 +1,4 @@
-"""A catalogue of malformed studies, generated from the four demo studies in studies/.
+"""A catalogue of malformed studies, generated from the demo studies in studies/.
 
 Each bad study must end as the README promises for bad input: exit code 2 and ONE line on
 standard error that names the study key (or the command-line option) at fault, with no

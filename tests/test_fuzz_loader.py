@@ -1,6 +1,6 @@
 """Property-based fuzzing of the study loader and the set-point solver.
 
-Studies are the four demo studies with one to three random edits: a value replaced by a random
+Studies are the demo studies with one to three random edits: a value replaced by a random
 TOML value (strings, numbers including NaN and infinities, booleans, dates and times, arrays,
 tables, and value-like strings such as ``"3.2 (m"``), a key deleted, or a key inserted into a
 table.  Each edited study goes through the loader (``parse_study``, and ``load_study`` from the

@@ -65,11 +65,13 @@ def scale_table(study, statistics: pd.DataFrame) -> pd.DataFrame | None:
     return pd.DataFrame(rows)
 
 
-def wall_table(prep) -> pd.DataFrame | None:
+def wall_table(prep, statistics: pd.DataFrame | None = None) -> pd.DataFrame | None:
     """The wall corrections at the set point: uncorrected (the empty-tunnel calibration: the same
     model without walls), correction and corrected value of the Mach number (or speed), q, the
     Reynolds number, the angle of attack and the drag coefficient (the induced-drag part), and
-    the blockages; None without wall corrections."""
+    the blockages; with the Monte Carlo ``statistics``, ``U`` of the corrected value (the
+    half-length of its probabilistically symmetric interval: the corrections' own uncertainty
+    with every other input's) and the output key; None without wall corrections."""
     st, model = prep.study, prep.model
     m = st.measurement
     if m is None or m.walls is None:
@@ -82,20 +84,46 @@ def wall_table(prep) -> pd.DataFrame | None:
     speed = ("Mach number", "mach_model", "1") if st.kind == "gas" else ("speed", "speed", "m/s")
     for label, key, unit in (speed, ("dynamic pressure q", "dynamic_pressure", "Pa"),
                              ("Reynolds number (model)", "reynolds_model", "1")):
-        rows.append((label, free[key], with_walls[key] - free[key], with_walls[key], unit))
+        rows.append((label, free[key], with_walls[key] - free[key], with_walls[key], unit, key))
     if "angle_correction" in with_walls:
         da = with_walls["angle_correction"]
-        rows.append(("angle of attack", m.angle_of_attack, da, m.angle_of_attack + da, "rad"))
+        rows.append(("angle of attack", m.angle_of_attack, da, m.angle_of_attack + da, "rad",
+                     "angle_of_attack"))
         if "drag" in m.coefficients and "lift" in m.coefficients:
             cl = m.coefficients["lift"]
             rows.append(("drag coefficient (induced-drag correction CL d_alpha)",
-                         m.coefficients["drag"] - cl * da, cl * da, m.coefficients["drag"], "1"))
-    rows += [("solid blockage (incompressible, or as given)", math.nan, with_walls["solid_blockage"], math.nan, "1"),
-             ("wake blockage (incompressible, or as given)", math.nan, with_walls["wake_blockage"], math.nan, "1"),
+                         m.coefficients["drag"] - cl * da, cl * da, m.coefficients["drag"], "1",
+                         ""))
+    rows += [("solid blockage (incompressible, or as given)", math.nan,
+              with_walls["solid_blockage"], math.nan, "1", ""),
+             ("wake blockage (incompressible, or as given)", math.nan,
+              with_walls["wake_blockage"], math.nan, "1", ""),
              ("total blockage epsilon (compressible)", math.nan, with_walls["blockage"], math.nan,
-              "1")]
-    return pd.DataFrame(rows, columns=["quantity", "uncorrected", "correction", "corrected",
-                                       "unit"])
+              "1", "")]
+    out = pd.DataFrame(rows, columns=["quantity", "uncorrected", "correction", "corrected", "unit",
+                                      "output"])
+    out["U"] = [0.5 * (float(statistics.loc[k, "high"]) - float(statistics.loc[k, "low"]))
+                if statistics is not None and k in statistics.index else math.nan
+                for k in out["output"]]
+    return out
+
+
+def outside_table(scale_effect, points: dict[str, tuple[float, float]]) -> list[str]:
+    """Where a scale-effect table is read beyond its entries (continued along its end segments):
+    one text per point ``label -> (Re, M)`` outside the table's Reynolds (or Mach) range."""
+    if scale_effect is None or scale_effect.method != "table":
+        return []
+    se, out = scale_effect, []
+    for label, (re, mach) in points.items():
+        far = []
+        if not se.reynolds[0] <= re <= se.reynolds[-1]:
+            far.append(f"Re = {re:.3g} (table {se.reynolds[0]:.3g} to {se.reynolds[-1]:.3g})")
+        if se.mach and not se.mach[0] <= mach <= se.mach[-1]:
+            far.append(f"M = {mach:.3g} (table {se.mach[0]:g} to {se.mach[-1]:g})")
+        if far:
+            out.append(f"the scale-effect table is read beyond its entries at {label}: "
+                       f"{' and '.join(far)}; it is continued along its end segment there")
+    return out
 
 
 def coefficient_table(study, statistics: pd.DataFrame, sobol: dict[str, pd.DataFrame]
@@ -142,6 +170,10 @@ def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFr
                         f"beyond about {100 * LARGE_BLOCKAGE:g} % the classical small-model "
                         "corrections (and their compressible factors near Mach 1) do not hold; "
                         "use the facility's own factors, ventilated walls or a smaller model")
+    o = prep.setpoint.outputs
+    warnings += outside_table(m.scale_effect, {
+        "the tunnel's set point": (float(o["reynolds_model"]), float(o["mach_model"])),
+        "full scale": (float(o["reynolds_full_scale"]), float(o["mach_full_scale"]))})
     if use is not None:
         for _, r in use.iterrows():
             name = str(r["component"]).replace("_", " ")
@@ -159,5 +191,5 @@ def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFr
                              "is large against the load.")
     return CoefficientStage(table=table, utilisation=use, warnings=tuple(warnings),
                             notes=tuple(notes), chart=pressure_chart(prep),
-                            trade=scale_trade(prep), walls=wall_table(prep),
+                            trade=scale_trade(prep), walls=wall_table(prep, statistics),
                             scale=scale_table(st, statistics))

@@ -193,3 +193,51 @@ def friction_drag(line: str | Callable[[Any], Any], re: ArrayLike,
     k = np.asarray(form_factor, dtype=float)
     ratio = np.asarray(wetted_ratio, dtype=float)
     return (1.0 + k) * cf_line(re) * ratio
+
+
+def _segment(grid: np.ndarray, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Index of the grid interval holding ``x`` (the end intervals beyond the grid) and the
+    fraction ``(x - g_i) / (g_(i+1) - g_i)`` along it (below 0 or above 1 outside)."""
+    i = np.clip(np.searchsorted(grid, x, side="right") - 1, 0, grid.size - 2)
+    return i, (x - grid[i]) / (grid[i + 1] - grid[i])
+
+
+def tabulated(reynolds: ArrayLike, values: ArrayLike, re: ArrayLike, *,
+              mach: ArrayLike | None = None, at_mach: ArrayLike | None = None) -> Any:
+    """A coefficient from a table ``C(Re)`` or ``C(M, Re)`` [-]: linear in ``log10 Re`` (and in
+    M) between the entries, continued along the end segments beyond them.
+
+    Interpolation in the logarithm of the Reynolds number is the usual way to read drag and
+    friction data, whose Reynolds dependence is close to linear in ``log10 Re`` over a decade
+    (cf. the skin-friction lines of this module).
+
+    Parameters
+    ----------
+    reynolds : array_like
+        The table's Reynolds numbers [-], increasing (at least two).
+    values : array_like
+        ``C`` at each Reynolds number [-]; with ``mach``, one row per Mach number.
+    re : array_like
+        Reynolds numbers to read at [-].
+    mach, at_mach : array_like, optional
+        The table's Mach numbers [-] (increasing) and the Mach numbers to read at [-].
+
+    Examples
+    --------
+    Half a decade between Re = 1e6 (C = 0.030) and 1e7 (C = 0.026): 0.028.
+
+    >>> round(float(tabulated([1e6, 1e7], [0.030, 0.026], 10 ** 6.5)), 12)
+    0.028
+    """
+    lg = np.log10(np.asarray(reynolds, dtype=float))
+    v = np.asarray(values, dtype=float)
+    x = np.log10(np.asarray(re, dtype=float))
+    if mach is None:
+        i, t = _segment(lg, x)
+        return v[i] + t * (v[i + 1] - v[i])
+    x, m = np.broadcast_arrays(x, np.asarray(at_mach, dtype=float))
+    i, t = _segment(lg, x)
+    j, s = _segment(np.asarray(mach, dtype=float), m)
+    low = v[j, i] + t * (v[j, i + 1] - v[j, i])
+    high = v[j + 1, i] + t * (v[j + 1, i + 1] - v[j + 1, i])
+    return low + s * (high - low)

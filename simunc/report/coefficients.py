@@ -6,7 +6,7 @@ import pandas as pd
 
 from simunc.decisions.coefficients import LOAD_CAUTION
 from simunc.report.blocks import Block, table
-from simunc.report.text import lit
+from simunc.report.text import lit, two_digits
 from simunc.units import COUNT
 
 
@@ -21,10 +21,56 @@ def summary_lines(result) -> list[str]:
         if str(out).startswith("pressure_coefficient_") or r["nominal"] == 0.0:
             continue
         # two significant digits for an uncertainty (JCGM 100 7.2.6)
-        value = (f"{r['U_counts']:.2g} counts" if out == "drag_coefficient" else f"{r['U']:.2g}")
+        value = (f"{two_digits(r['U_counts'])} counts" if out == "drag_coefficient"
+                 else two_digits(r["U"]))
         lines.append(f"{lit(out)}: U ({p}) = {value}; driven most by {lit(r['leading_inputs'])}."
                      if r["leading_inputs"] else f"{lit(out)}: U ({p}) = {value}.")
     return lines
+
+
+def extrapolation_lines(result) -> list[str]:
+    """Summary bullets of the extrapolation: the extrapolated drag and U, and per requirement
+    on it whether the plan meets it and the sweep that would."""
+    e = result.extrapolation
+    if e is None:
+        return [f"Requirement {lit(r.text)}: nothing to extrapolate (no split-test plan with "
+                "runs at the matched primary group: the set point reaches the Reynolds number "
+                "or the plan has no sweep)." for r in result.study.plan_requirements]
+    pe = f"{100 * e.probability:g} %"
+    lines = [f"Drag extrapolated from the split-test plan to full-scale Re (ratio {e.ratio:.3g}, "
+             f"{lit(e.law)}): U ({pe}) = {two_digits(e.U_counts)} counts about the true value."]
+    for c in e.checks:
+        lines.append(f"Requirement {lit(c.text)}: {'met' if c.met else 'not met'} by the plan as "
+                     f"made (U = {two_digits(c.value / COUNT)} counts)." + (
+                         "" if c.met or e.runs_for is None else " " + _runs_for_text(e.runs_for)))
+    return lines
+
+
+def _runs_for_text(r) -> str:
+    """What sweep meets the requirement, or why none does."""
+    if r.chosen is not None:
+        d = r.designs.iloc[r.chosen]
+        return (f"A sweep of {int(d['runs'])} runs meets it: {int(d['levels'])} Reynolds numbers "
+                f"from {d['reynolds_low']:.3g} to {d['reynolds_high']:.3g}, evenly spaced in "
+                f"log10 Re, {int(d['runs_per_level'])} run(s) at each (U = "
+                f"{two_digits(d['U_counts'])} counts).")
+    if r.floor > r.limit:
+        return (f"No number of runs meets it: the errors the runs share (systematic inputs and "
+                f"the law's model form) alone give U = {two_digits(r.floor / COUNT)} counts; "
+                "tighten those or widen the Reynolds range.")
+    return (f"No sweep of up to {int(r.designs['runs'].max())} runs meets it (the shared errors "
+            f"alone give U = {two_digits(r.floor / COUNT)} counts).")
+
+
+def _runs_for_blocks(e) -> list[Block]:
+    r = e.runs_for
+    if r is None:
+        return []
+    b = [Block("paragraph", f"Sweeps simulated for the requirement {lit(r.requirement)} (the "
+               "same draws for every sweep; fewest runs first): " + _runs_for_text(r))]
+    if len(r.designs):
+        b.append(Block("table", table(r.designs)))
+    return b
 
 
 def coefficient_blocks(result) -> list[Block]:
@@ -65,13 +111,22 @@ def coefficient_blocks(result) -> list[Block]:
         b.append(Block("paragraph", "Wall corrections at the set point (uncorrected: the empty-"
                        "tunnel calibration; corrected: the stream the model sees, which the set "
                        "point matches to full scale):"))
-        b.append(Block("table", table(c.walls)))
+        b.append(Block("table", table(c.walls.drop(columns="output").rename(
+            columns={"U": f"U ({p}) of the corrected value"}))))
+        b.append(Block("figure", "wall_corrections.png", caption=(
+            "Wall corrections at the set point: the tunnel's uncorrected value, the corrected "
+            f"one with its U ({p}; the corrections' own uncertainty included) and, for the Mach "
+            "number, the full-scale value it matches.")))
     if c.scale is not None:
         se = st.measurement.scale_effect
         how = (f"friction line {se.line} with form factor {se.form_factor:g} and wetted ratio "
                f"{se.wetted_ratio:g}" + (f", compared with {', '.join(se.compare)}"
                                           if se.compare else "")
-               if se.method == "friction_line" else "the stated sensitivities")
+               if se.method == "friction_line" else
+               f"a table of C against Re{' and M' if se.mach else ''}" if se.method == "table"
+               else "the stated sensitivities") + (
+            f"; model form +-{100 * se.uncertainty:g} % of its change to full scale"
+            if se.uncertainty else "")
         b.append(Block("paragraph", f"Scale effect ({lit(how)}): the stated coefficients are the "
                        "full-scale values; the tunnel's follow from the Reynolds and Mach numbers "
                        "of each trial. Tunnel value less full-scale value (the bias of taking the "
@@ -86,10 +141,17 @@ def coefficient_blocks(result) -> list[Block]:
                        "the runs of a test, random errors drawn anew in each run): the drag of "
                        "the runs at the matched primary group fitted against the law's regressor "
                        f"and read at Re = {e.reynolds_full_scale:.4g} (extrapolation ratio "
-                       f"{e.ratio:.3g}): C_D = {e.estimate:.5f}, U ({pe}) = {e.U:.2g} "
-                       f"({e.U_counts:.2g} counts) about the true full-scale value, bias "
+                       f"{e.ratio:.3g}): C_D = {e.estimate:.5f}, U ({pe}) = {two_digits(e.U)} "
+                       f"({two_digits(e.U_counts)} counts) about the true full-scale value, bias "
                        f"{e.bias:.2g}."))
         b.append(Block("table", table(e.runs)))
+        if e.notes:
+            b.append(Block("bullets", [lit(n[0].upper() + n[1:] + ".") for n in e.notes]))
+        b.append(Block("figure", "extrapolation.png", caption=(
+            "Drag coefficient against the Reynolds number: the planned runs (mean and U of the "
+            "reduced drag), the fitted law, the extrapolated value with the interval of the true "
+            "full-scale value, and the stated full-scale value.")))
+        b += _runs_for_blocks(e)
     if c.utilisation is not None:
         b.append(Block("paragraph", f"Balance utilisation at the set point ({lit(m.balance)}, "
                        f"load margin {100 * m.load_margin:g} %):"))

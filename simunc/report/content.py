@@ -90,7 +90,8 @@ def build(result) -> list[Block]:
             f"{lit(band.output)} = {o[band.output]:.5g}" for band in st.bands) + ".",
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
-    ] + coefficients.summary_lines(result) + _first_to_tighten(result, sp)
+    ] + coefficients.summary_lines(result) + coefficients.extrapolation_lines(result)
+        + _first_to_tighten(result, sp)
         + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
             "and the facility limits."] if not sp.feasible else [])
         + [f"Warning: {lit(w)}" for w in result.warnings])]

@@ -14,9 +14,11 @@ import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
+import matplotlib.ticker as ticker  # noqa: E402
 import numpy as np  # noqa: E402
 
 from simunc.errors import plain  # noqa: E402
+from simunc.report.text import two_digits  # noqa: E402
 
 #: Text drawn as written: no mathtext between "$" signs, no TeX (a user's matplotlibrc may set it).
 LITERAL_TEXT = {"text.parse_math": False, "text.usetex": False}
@@ -233,6 +235,93 @@ def pretest_chart(result) -> bytes:
     return _png(fig)
 
 
+def _power_of_ten(v: float, _pos=None) -> str:
+    """A tick label such as ``1e6`` (or ``2e6``).
+
+    >>> _power_of_ten(1.0e7), _power_of_ten(2.0e6)
+    ('1e7', '2e6')
+    """
+    mantissa, exponent = f"{v:.0e}".split("e")
+    return f"{mantissa}e{int(exponent)}"
+
+
+@_literal_text
+def extrapolation_plot(result) -> bytes:
+    """The drag coefficient against the Reynolds number (log axis): each run's mean with its U,
+    the mean fitted law, the extrapolated value with the interval of the true full-scale value
+    about it, and the stated full-scale value."""
+    e = result.extrapolation
+    pe = f"{100 * e.probability:g} %"
+    fig, ax = plt.subplots(figsize=(7.2, 4.4))
+    r = e.runs
+    ax.errorbar(r["reynolds"], r["drag_mean"] * 1e4, yerr=r["drag_U"] * 1e4, fmt="o",
+                color="#4a78a8", capsize=3, label=f"planned runs: mean and U ({pe}) of the "
+                                                  "reduced CD")
+    for _, row in r.iterrows():
+        ax.annotate(plain(row["run"]), (row["reynolds"], row["drag_mean"] * 1e4), fontsize=7,
+                    xytext=(4, 4), textcoords="offset points")
+    ax.plot(e.line["reynolds"], e.line["drag"] * 1e4, color="#555555", lw=1.2, ls="--",
+            label=f"fitted law ({plain(e.law)}), read at full scale")
+    lo, hi = e.estimate - e.high, e.estimate - e.low
+    ax.errorbar([e.reynolds_full_scale], [e.estimate * 1e4],
+                yerr=[[(e.estimate - lo) * 1e4], [(hi - e.estimate) * 1e4]], fmt="s",
+                color="#c0392b", capsize=4,
+                label=f"extrapolated CD; {pe} interval of the true value (U = "
+                      f"{two_digits(e.U_counts)} counts)")
+    ax.plot([e.reynolds_full_scale], [e.full_scale * 1e4], marker="*", ms=12, ls="none",
+            color="#e1a33b", markeredgecolor="black", markeredgewidth=0.5, zorder=5,
+            label="full-scale CD as stated (pre-test)")
+    ax.set_xscale("log")
+    # plain tick labels: the default log labels are mathtext, which LITERAL_TEXT turns off
+    ax.xaxis.set_major_formatter(ticker.FuncFormatter(_power_of_ten))
+    ax.xaxis.set_minor_formatter(ticker.NullFormatter())
+    ax.set_xlabel("Reynolds number (log scale)")
+    ax.set_ylabel("drag coefficient [counts]")
+    ax.set_title(f"Extrapolation of the split-test plan (ratio {e.ratio:.3g})", fontsize=10)
+    ax.grid(alpha=0.3, which="both")
+    ax.legend(fontsize=7, loc="best")
+    fig.tight_layout()
+    return _png(fig)
+
+
+@_literal_text
+def wall_plot(result) -> bytes:
+    """Uncorrected (the tunnel's set value) and corrected (the stream the model sees) Mach
+    number (or speed) and dynamic pressure at the set point, the corrected value with its U,
+    and the full-scale Mach number (or speed) the corrected one matches."""
+    w = result.coefficients.walls
+    rows = w[w["output"].isin(["mach_model", "speed", "dynamic_pressure"])]
+    o = result.setpoint.outputs
+    pe = f"{100 * result.coverage_probability:g} %"
+    fig, axes = plt.subplots(1, len(rows), figsize=(4.2 * len(rows), 3.8), squeeze=False)
+    for ax, (_, row) in zip(axes[0], rows.iterrows()):
+        scale = 1e-3 if row["output"] == "dynamic_pressure" else 1.0
+        unit = {"dynamic_pressure": "kPa", "speed": "m/s"}.get(row["output"], "")
+        ax.bar([0], [row["uncorrected"] * scale], width=0.5, color="#bcccdc",
+               label="uncorrected (tunnel set value, empty-tunnel calibration)")
+        ax.bar([1], [row["corrected"] * scale], width=0.5, color="#4a78a8",
+               label="corrected for the walls")
+        if np.isfinite(row["U"]):
+            ax.errorbar([1], [row["corrected"] * scale], yerr=[row["U"] * scale], fmt="none",
+                        color="black", capsize=5, label=f"U ({pe}) of the corrected value")
+        target = {"mach_model": "mach_full_scale", "speed": "full_scale_speed"}.get(row["output"])
+        if target is not None and result.study.kind == "gas" and target in o:
+            ax.axhline(float(o[target]) * scale, color="#c0392b", lw=1.0, ls="--",
+                       label="full scale")
+        values = [row["uncorrected"] * scale, row["corrected"] * scale]
+        span = max(abs(values[1] - values[0]), abs(row["U"] * scale) if np.isfinite(row["U"])
+                   else 0.0, 1e-12)
+        ax.set_ylim(min(values) - 3 * span, max(values) + 3 * span)
+        ax.set_xticks([0, 1], ["uncorrected", "corrected"])
+        ax.set_title(f"{plain(row['quantity'])}" + (f" [{unit}]" if unit else ""), fontsize=9)
+        ax.grid(alpha=0.3, axis="y")
+    handles, labels = axes[0][0].get_legend_handles_labels()
+    fig.legend(handles, labels, fontsize=7, loc="lower center", ncol=2,
+               bbox_to_anchor=(0.5, -0.12))
+    fig.tight_layout()
+    return _png(fig)
+
+
 def all_figures(result) -> dict[str, bytes]:
     """File name -> PNG bytes."""
     figs = {"reynolds_ratio_histogram.png": reynolds_histogram(result)}
@@ -246,4 +335,8 @@ def all_figures(result) -> dict[str, bytes]:
         figs[f"sweep_{i}.png"] = sweep_plot(result, sw)
     if result.coefficients is not None and result.coefficients.chart is not None:
         figs["pretest_chart.png"] = pretest_chart(result)
+    if result.coefficients is not None and result.coefficients.walls is not None:
+        figs["wall_corrections.png"] = wall_plot(result)
+    if result.extrapolation is not None:
+        figs["extrapolation.png"] = extrapolation_plot(result)
     return figs

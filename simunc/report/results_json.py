@@ -198,9 +198,20 @@ def results_dict(result) -> dict:
             "runs": result.extrapolation.runs.to_dict(orient="records"),
             **{k: getattr(result.extrapolation, k) for k in (
                 "reynolds_full_scale", "ratio", "estimate", "full_scale", "bias", "u", "U",
-                "U_counts", "probability", "trials", "seed")}},
+                "U_counts", "low", "high", "probability", "trials", "seed")},
+            "line": result.extrapolation.line.to_dict(orient="list"),
+            "requirements": [_check(c) for c in result.extrapolation.checks],
+            "runs_for": _runs_for(result.extrapolation.runs_for)},
     }
     return _clean(doc)
+
+
+def _runs_for(r):
+    if r is None:
+        return None
+    return {"requirement": r.requirement, "limit": r.limit, "probability": r.probability,
+            "floor": r.floor, "chosen": r.chosen,
+            "designs": r.designs.to_dict(orient="records")}
 
 
 def _coefficients(c):

@@ -73,3 +73,12 @@ def md(text: object) -> str:
     as written except a ``<`` that could open raw HTML (a safety net for text not marked)."""
     return "".join(md_inline(p) if literal else re.sub(r"<(?=[A-Za-z/!?])", r"\\<", p)
                    for literal, p in spans(text))
+
+
+def two_digits(x: float) -> str:
+    """An uncertainty to two significant digits, a trailing zero kept (JCGM 100:2008 7.2.6).
+
+    >>> two_digits(3.0), two_digits(4.38), two_digits(12.4), two_digits(0.000437)
+    ('3.0', '4.4', '12', '0.00044')
+    """
+    return f"{float(x):#.2g}".rstrip(".")

@@ -259,38 +259,50 @@ class SimilitudeModel:
         return {name: formulas[name]() for name in names}
 
     def _scale_increments(self, re_model, re_full, mach_model, mach_full, re_stated,
-                          mach_stated) -> tuple[dict, dict, object]:
+                          mach_stated) -> tuple[dict, dict, dict]:
         """Coefficient increments over the stated full-scale condition (``re_stated``,
         ``mach_stated``: no deviation), ``C(Re, M) - C(Re_stated, M_stated)``, of the tunnel
         (``re_model``, ``mach_model``) and of the trial's full scale (``re_full``, ``mach_full``),
-        per coefficient of the scale effect, and (friction line with ``compare``) the largest
-        difference of a compared line's tunnel-to-full-scale drag increment from the chosen line's
-        (the model-form spread; 0 without).
+        per coefficient of the scale effect, and per coefficient the scale of its model-form
+        input ``scale_effect_model``: for a friction line with ``compare`` the largest
+        difference of a compared line's tunnel-to-full-scale drag increment from the chosen
+        line's (the spread); for a table or a sensitivity with an ``uncertainty`` the law's own
+        tunnel-to-full-scale increment; none without.
 
         Friction line: ``C_D,visc = (1 + k) C_F(Re) S_wet / S_ref`` (:mod:`simunc.physics.friction`);
-        sensitivity: ``dC/dlog10 Re (log10 Re_model - log10 Re_full) + dC/dM (M_model - M_full)``.
+        sensitivity: ``dC/dlog10 Re (log10 Re - log10 Re_stated) + dC/dM (M - M_stated)``;
+        table: ``C(Re, M)`` read by :func:`simunc.physics.friction.tabulated`.
         """
         s = cast(Measurement, self.measurement).scale_effect
         if s is None:
-            return {}, {}, 0.0
+            return {}, {}, {}
         if s.method == "friction_line":
             def increment(line, re):
                 return (friction.friction_drag(line, re, s.form_factor, s.wetted_ratio)
                         - friction.friction_drag(line, re_stated, s.form_factor, s.wetted_ratio))
             tunnel, full = increment(s.line, re_model), increment(s.line, re_full)
+            if not s.compare:
+                return {"drag": tunnel}, {"drag": full}, {}
             spread = 0.0
             for line in s.compare:
                 other = increment(line, re_model) - increment(line, re_full)
                 spread = np.maximum(spread, np.abs(other - (tunnel - full)))
-            return {"drag": tunnel}, {"drag": full}, spread
+            return {"drag": tunnel}, {"drag": full}, {"drag": spread}
         tunnel, full = {}, {}
         for name in s.coefficients:
-            per_decade, per_mach = s.per_decade.get(name, 0.0), s.per_mach.get(name, 0.0)
-            tunnel[name] = (per_decade * (np.log10(re_model) - np.log10(re_stated))
-                            + per_mach * (mach_model - mach_stated))
-            full[name] = (per_decade * (np.log10(re_full) - np.log10(re_stated))
-                          + per_mach * (mach_full - mach_stated))
-        return tunnel, full, 0.0
+            if s.method == "table":
+                def law(re, mach, v=s.table[name]):
+                    return friction.tabulated(s.reynolds, v, re, mach=s.mach or None,
+                                              at_mach=mach if s.mach else None)
+            else:
+                def law(re, mach, name=name):
+                    return (s.per_decade.get(name, 0.0) * np.log10(re)
+                            + s.per_mach.get(name, 0.0) * mach)
+            anchor = law(re_stated, mach_stated)
+            tunnel[name] = law(re_model, mach_model) - anchor
+            full[name] = law(re_full, mach_full) - anchor
+        forms = {name: tunnel[name] - full[name] for name in tunnel} if s.uncertainty else {}
+        return tunnel, full, forms
 
     def _reduction(self, x, d, fac: dict, q, q_rec, similarity=None) -> dict:
         """The data reduction of one trial: true loads, balance and scanner readings, and the
@@ -328,7 +340,7 @@ class SimilitudeModel:
             out["angle_correction"] = upwash * (1.0 + d("lift_interference_correction"))
         c = dict(m.coefficients)
         increments, at_full, spread = self._scale_increments(*similarity) \
-            if similarity is not None else ({}, {}, 0.0)
+            if similarity is not None else ({}, {}, {})
         for name, inc in increments.items():  # the tunnel's coefficient from full scale's
             c[name] = c[name] + inc
         for name, slope in m.slopes.items():  # the coefficient at the true angle
@@ -368,7 +380,7 @@ class SimilitudeModel:
             out[name] = true[name]
         for name in increments:  # taking the tunnel's value for full scale's
             full = m.coefficients[name] + at_full[name] + (
-                d("scale_effect_model") * spread if name == "drag" else 0.0)
+                d("scale_effect_model") * spread[name] if name in spread else 0.0)
             out[f"{name}_coefficient_to_full_scale"] = out[f"{name}_coefficient"] - full
         if m.taps:
             # Cp = (p_tap - p_ref + e + p_ref,recorded - p_recorded) / q_recorded with

@@ -69,10 +69,37 @@ def _keys(study: Study) -> list[str]:
     return keys + [k for k in levers if k not in keys]
 
 
+def _primary(study: Study) -> list:
+    """The bands of the primary group (solved, priority 1, not the Reynolds number)."""
+    return [b for b in study.bands if b.solve and b.priority == 1 and b.group != "reynolds"]
+
+
+def _sweep_keys(study: Study) -> list[str]:
+    """The levers of a Reynolds sweep: the facility's, not the model's (its size and frequency
+    stay at the set point)."""
+    return [k for k in _keys(study) if k not in ("model_length", "frequency")]
+
+
+def sweep_run(study: Study, model: SimilitudeModel, setpoint: SetPoint, reynolds: float,
+              label: str) -> PlannedRun:
+    """A Reynolds-sweep run: the primary group matched, the Reynolds number aimed at
+    ``reynolds`` with the facility's levers (:func:`_sweep_keys`), the other solved groups
+    after them."""
+    re_band = study.band("reynolds")
+    assert re_band is not None
+    primary = _primary(study)
+    others = [b for b in study.bands if b.solve and b.group != "reynolds" and b not in primary]
+    aim = replace(re_band, target=reynolds / setpoint.outputs["reynolds_full_scale"], priority=2)
+    state, out = solve_state(study, model, _sweep_keys(study), primary + [aim] + others)
+    name = primary[0].group.capitalize() if primary else ""
+    return PlannedRun(label, f"Reynolds sweep at {name} matched (Re = "
+                             f"{out['reynolds_model']:.4g})", state, out)
+
+
 def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     """Build the split-test plan for a set point that does not match every group."""
     re_band = study.band("reynolds")
-    primary = [b for b in study.bands if b.solve and b.priority == 1 and b.group != "reynolds"]
+    primary = _primary(study)
     name = primary[0].group.capitalize() if primary else ""
     if setpoint.feasible or re_band is None or not primary or all(
             abs(band_residual(b, setpoint.outputs)) < MATCHED for b in primary + [re_band]):
@@ -85,8 +112,7 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
         state, out = solve_state(study, model, use or keys, bands)
         return PlannedRun(label, purpose, state, out)
 
-    # The sweep moves the facility, not the model: its size and frequency stay at the set point.
-    sweep_keys = [k for k in keys if k not in ("model_length", "frequency")]
+    sweep_keys = _sweep_keys(study)
 
     # A: primary matched, Reynolds number pushed as high as the limits allow.
     high = replace(re_band, target=1.0e6, priority=2)
@@ -103,10 +129,7 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
     levels: np.ndarray | list[float]
     levels = np.geomspace(re_low, re_a, SWEEP_POINTS)[:-1] if re_a > re_low * (1 + 1e-6) else []
     for i, level in enumerate(levels):
-        aim = replace(re_band, target=level / re_fs, priority=2)
-        r = run(f"B{i + 1}", "", primary + [aim] + others, sweep_keys)
-        runs.append(replace(r, purpose=f"Reynolds sweep at {name} matched "
-                                       f"(Re = {r.outputs['reynolds_model']:.4g})"))
+        runs.append(sweep_run(study, model, setpoint, float(level), f"B{i + 1}"))
     # C: Reynolds number matched first, the primary group as close as it gets.
     c_bands = [replace(re_band, priority=1)] + [replace(b, priority=2) for b in primary] + others
     c = run("C", f"Reynolds number matched, {name} as close as the facility allows", c_bands)

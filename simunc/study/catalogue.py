@@ -277,6 +277,12 @@ def measurement_outputs(components: Sequence[str], coefficients: Sequence[str],
     return tuple(out)
 
 
+#: The output of the split-test plan's extrapolation (:mod:`simunc.decisions.extrapolation`)
+#: that a requirement may limit: the extrapolated full-scale drag less the true one.  It is no
+#: output of the model (the extrapolation forms it from the planned runs).
+EXTRAPOLATED_OUTPUT = "drag_coefficient_extrapolated"
+
+
 def describe_output(key: str) -> tuple[str, str]:
     """SI unit and report label of an output key (flow quantities and group outputs).
 
@@ -293,6 +299,9 @@ def describe_output(key: str) -> tuple[str, str]:
             return "1", f"{label}, as the data system reduces it"
         if key == f"{name}_coefficient_to_full_scale":
             return "1", f"{label}: reduced in the tunnel - full-scale value (scale effect)"
+        if key == f"{name}_coefficient_extrapolated":
+            return "1", (f"{label}: extrapolated from the split-test plan's runs - full-scale "
+                         "value")
     if key.startswith("pressure_coefficient_"):
         tap = key[len("pressure_coefficient_"):]
         return "1", f"pressure coefficient Cp at tap {tap}, as the data system reduces it"

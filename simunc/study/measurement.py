@@ -33,9 +33,13 @@ MEASUREMENT_KEYS = ("angle_of_attack", "lift_curve_slope", "pitching_moment_slop
 BALANCE_KEYS = ("name", "load_margin", "moment_transfer", "price") + tuple(BALANCE_COMPONENTS)
 OPTION_KEYS = ("name", "price", "capacity", "full_scale")
 TAP_KEYS = ("name", "pressure_coefficient")
-SCALE_KEYS = ("method", "line", "form_factor", "wetted_ratio", "compare") + tuple(
-    f"{c}_per_{x}" for c in COEFFICIENTS for x in ("decade", "mach"))
-SCALE_METHODS = ("friction_line", "sensitivity")
+SCALE_KEYS = ("method", "line", "form_factor", "wetted_ratio", "compare", "reynolds", "mach",
+              "uncertainty") + tuple(f"{c}_per_{x}" for c in COEFFICIENTS
+                                     for x in ("decade", "mach")) + tuple(
+    f"{c}_coefficient" for c in COEFFICIENTS)
+SCALE_METHODS = ("friction_line", "sensitivity", "table")
+#: Largest number of entries along one axis of a scale-effect table.
+TABLE_ENTRIES = 200
 WALL_KEYS = ("model_volume", "shape_factor", "solid_blockage", "wake_blockage", "boundary_factor",
              "blockage_uncertainty", "lift_interference_uncertainty")
 
@@ -189,15 +193,31 @@ def _walls(t: Table, model_length: float | None, coefficients: dict) -> Walls:
 def _scale_effect(t: Table, coefficients: dict) -> ScaleEffect:
     """``[measurement.scale_effect]`` -> :class:`ScaleEffect`."""
     s = Table(t.data["scale_effect"], t.key("scale_effect"), SCALE_KEYS)
-    s.require("method", "'friction_line' or 'sensitivity'")
+    s.require("method", "'friction_line', 'sensitivity' or 'table'")
     method = s.choice("method", SCALE_METHODS)
     lines = dict(friction.FRICTION_LINES)
     sens = {k for k in SCALE_KEYS if k.endswith(("_per_decade", "_per_mach"))}
+    columns = {k for k in SCALE_KEYS if k.endswith("_coefficient")}
+    own = {"friction_line": ("line", "form_factor", "wetted_ratio", "compare"),
+           "sensitivity": tuple(sorted(sens)), "table": ("reynolds", "mach") + tuple(
+               sorted(columns))}
+    for other, keys in own.items():
+        for k in keys:
+            if other != method and s.has(k):
+                raise StudyError(s.key(k), s.data[k], f"no {k} with method = '{method}' (it "
+                                 f"belongs to method = '{other}')")
+    uncertainty = 0.0
+    if s.has("uncertainty"):
+        if method == "friction_line":
+            raise StudyError(s.key("uncertainty"), s.data["uncertainty"], "compare (the other "
+                             "friction lines, whose spread is the model-form uncertainty) with "
+                             "method = 'friction_line'")
+        uncertainty = s.number("uncertainty", low=0.0, high=1.0, low_open=True,
+                               allow_percent=True, what="a fraction above 0 and at most 1 of "
+                               "the law's change from the model to full scale, e.g. '20 %'")
+    if method == "table":
+        return _scale_table(s, coefficients, uncertainty)
     if method == "friction_line":
-        for k in sens:
-            if s.has(k):
-                raise StudyError(s.key(k), s.data[k], "no sensitivity with method = "
-                                 "'friction_line' (the friction line gives the drag's)")
         if "drag" not in coefficients:
             raise StudyError(s.key("method"), "'friction_line'", "a balance measuring drag (the "
                              "friction line moves the drag coefficient)")
@@ -215,9 +235,6 @@ def _scale_effect(t: Table, coefficients: dict) -> ScaleEffect:
                                                  low_open=True, what="S_wet / S_ref above 0, "
                                                  "e.g. 5.5"),
                            compare=compare)
-    for k in ("line", "form_factor", "wetted_ratio", "compare"):
-        if s.has(k):
-            raise StudyError(s.key(k), s.data[k], f"no {k} with method = 'sensitivity'")
     per = {"decade": {}, "mach": {}}  # type: dict[str, dict[str, float]]
     for k in sorted(sens):
         if s.has(k):
@@ -230,23 +247,81 @@ def _scale_effect(t: Table, coefficients: dict) -> ScaleEffect:
     if not per["decade"] and not per["mach"]:
         s.require("drag_per_decade", "at least one sensitivity, e.g. drag_per_decade = -0.0015 "
                   "(dCD / dlog10 Re)")
-    return ScaleEffect(method="sensitivity", per_decade=per["decade"], per_mach=per["mach"])
+    return ScaleEffect(method="sensitivity", per_decade=per["decade"], per_mach=per["mach"],
+                       uncertainty=uncertainty)
+
+
+def _axis(s: Table, name: str, what: str, low: float, high: float, bounds: str,
+          low_closed: bool = False) -> tuple[float, ...]:
+    """An increasing list of numbers (at least two) of a scale-effect table."""
+    raw = s.data[name]
+    if (not isinstance(raw, list) or not 2 <= len(raw) <= TABLE_ENTRIES
+            or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in raw)):
+        raise StudyError(s.key(name), raw, f"a list of 2 to {TABLE_ENTRIES} plain numbers "
+                         f"({what})")
+    values = tuple(float(v) for v in raw)
+    if not all(math.isfinite(v) and (low <= v if low_closed else low < v) and v <= high
+               for v in values) or any(
+            b <= a for a, b in zip(values, values[1:])):
+        raise StudyError(s.key(name), raw, f"increasing {what} ({bounds})")
+    return values
+
+
+def _scale_table(s: Table, coefficients: dict, uncertainty: float) -> ScaleEffect:
+    """``method = "table"``: ``reynolds`` (and ``mach``) and a column per coefficient."""
+    s.require("reynolds", "the table's Reynolds numbers, increasing, e.g. [1e6, 3e6, 1e7]")
+    reynolds = _axis(s, "reynolds", "Reynolds numbers", 0.0, 1e12, "above 0, at most 1e12")
+    mach = _axis(s, "mach", "Mach numbers", 0.0, 10.0, "from 0 to 10", low_closed=True) \
+        if s.has("mach") else ()
+    shape = (f"a list of {len(mach)} rows (one per Mach number) of {len(reynolds)} numbers"
+             if mach else f"a list of {len(reynolds)} numbers (one per Reynolds number)")
+    table = {}
+    for name in COEFFICIENTS:
+        key = f"{name}_coefficient"
+        if not s.has(key):
+            continue
+        if name not in coefficients:
+            raise StudyError(s.key(key), "[...]", f"a table of a coefficient this study "
+                             f"measures ({key} is not)")
+        raw = s.data[key]
+        rows = raw if mach else [raw]
+        ok = isinstance(raw, list) and len(rows) == max(len(mach), 1) and all(
+            isinstance(r, list) and len(r) == len(reynolds) and all(
+                isinstance(v, (int, float)) and not isinstance(v, bool)
+                and math.isfinite(v) and abs(v) <= 10.0 for v in r) for r in rows)
+        if not ok:
+            raise StudyError(s.key(key), raw, shape + " within +-10")
+        table[name] = tuple(tuple(float(v) for v in r) for r in rows) if mach else tuple(
+            float(v) for v in raw)
+    if not table:
+        s.require("drag_coefficient", "at least one coefficient column, e.g. drag_coefficient "
+                  "= [0.031, 0.029, 0.028] (" + shape + ")")
+    return ScaleEffect(method="table", reynolds=reynolds, mach=mach, table=table,
+                       uncertainty=uncertainty)
 
 
 def scale_inputs(m: Measurement | None, inputs: tuple[InputSpec, ...]) -> tuple[InputSpec, ...]:
-    """The model-form input of a friction-line scale effect with ``compare``: the fraction e of
-    the lines' spread by which the full-scale drag differs from the chosen line's prediction
-    (the model forms the spread in each trial), rectangular on [-1, 1] -- the published lines'
-    disagreement as a Type B uncertainty -- unless the study writes an input on
-    ``scale_effect_model`` itself."""
-    if m is None or m.scale_effect is None or not m.scale_effect.compare:
+    """The model-form input of a scale effect, unless the study writes an input on
+    ``scale_effect_model`` itself: a fraction e, rectangular -- a Type B uncertainty.
+
+    Friction line with ``compare``: e on [-1, 1] of the lines' spread by which the full-scale
+    drag differs from the chosen line's prediction (the model forms the spread in each trial:
+    the published lines' disagreement).  Table or sensitivity with ``uncertainty``: e on
+    [-u, u] of the law's change of each coefficient from the tunnel to full scale."""
+    se = None if m is None else m.scale_effect
+    if se is None or not se.model_form:
         return ()
     if any("scale_effect_model" in spec.targets for spec in inputs):
         return ()
-    return (InputSpec("friction-line model form", "scale_effect_model", "rectangular",
-                      "half_width", Parsed(1.0, True), 1.0,
-                      f"the spread of {', '.join(m.scale_effect.compare)} about "
-                      f"{m.scale_effect.line}", "", "measurement.scale_effect.compare"),)
+    if se.method == "friction_line":
+        return (InputSpec("friction-line model form", "scale_effect_model", "rectangular",
+                          "half_width", Parsed(1.0, True), 1.0,
+                          f"the spread of {', '.join(se.compare)} about {se.line}", "",
+                          "measurement.scale_effect.compare"),)
+    return (InputSpec(f"scale-effect {se.method} model form", "scale_effect_model",
+                      "rectangular", "half_width", Parsed(se.uncertainty, False), 1.0,
+                      f"+-{100 * se.uncertainty:g} % of the law's change to full scale", "",
+                      "measurement.scale_effect.uncertainty"),)
 
 
 def wall_inputs(data: Any, m: Measurement | None, inputs: tuple[InputSpec, ...]

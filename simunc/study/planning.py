@@ -16,7 +16,7 @@ from __future__ import annotations
 from typing import Any, cast
 
 from simunc.errors import GIVEN_LIMIT, StudyError, plain
-from simunc.study.catalogue import TARGETS
+from simunc.study.catalogue import EXTRAPOLATED_OUTPUT, TARGETS
 from simunc.study.keys import (
     COST_KEYS,
     DESIGN_KEYS,
@@ -46,15 +46,27 @@ def _fraction(t: Table, name: str, what: str) -> float:
                     what=what)
 
 
-def requirement(data: Any, index: int, bands, outputs) -> Requirement:
-    """One ``[[requirement]]`` table (docs/study-file.md)."""
+def requirement(data: Any, index: int, bands, outputs, extrapolated: bool = False
+                ) -> Requirement:
+    """One ``[[requirement]]`` table (docs/study-file.md); ``extrapolated``: whether the study
+    can extrapolate its drag to full scale (a scale effect on the drag), so that
+    :data:`~simunc.study.catalogue.EXTRAPOLATED_OUTPUT` may be limited."""
     t = Table(data, f"requirement[{index}]", REQUIREMENT_KEYS)
     kind = cast(RequirementKind, t.exclusive(REQUIREMENT_KINDS))  # required: one of them
     groups = {b.group: b for b in bands}
     if t.has("output") and t.has("group"):
         raise StudyError(t.key("group"), t.data["group"], "either output or group, not both")
     output = None
-    if t.has("group"):
+    if t.data.get("output") == EXTRAPOLATED_OUTPUT:
+        if not extrapolated:
+            raise StudyError(t.key("output"), repr(EXTRAPOLATED_OUTPUT), "a study with a scale "
+                             "effect on the drag ([measurement.scale_effect]) to extrapolate")
+        if kind != "expanded_uncertainty":
+            raise StudyError(t.key(kind), t.data[kind], f"expanded_uncertainty on "
+                             f"{EXTRAPOLATED_OUTPUT} (the extrapolation's U about the full-scale "
+                             "drag)")
+        output = EXTRAPOLATED_OUTPUT
+    elif t.has("group"):
         g = t.choice("group", {k: k for k in groups})
         output = groups[g].output
     elif t.has("output"):
@@ -93,7 +105,7 @@ def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: st
                            f"P({' and '.join(chosen)} in band) >= {t.data['conformity']}", note)
     if output is None:
         t.require("output", "the output (or group) the requirement is on")
-    nominal_zero = output.endswith("_difference")
+    nominal_zero = output.endswith("_difference") or output == EXTRAPOLATED_OUTPUT
     raw = t.data[kind]
     size = parse(t.key(kind), raw, _output_dimension(output), allow_relative=True)
     if size.relative and nominal_zero:

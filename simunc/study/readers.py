@@ -29,6 +29,7 @@ from simunc.study.measurement import (
     wall_inputs,
 )
 from simunc.study.catalogue import (
+    EXTRAPOLATED_OUTPUT,
     GROUPS,
     QUANTITIES,
     TARGETS,
@@ -511,7 +512,11 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         full_scale_frequency=fs.frequency is not None, custom=[c.name for c in customs],
         measured=() if measurement is None else measurement.output_keys(fac.kind)))
         for f in fac.fluids))
-    requirements, sweeps, sens, design = _decisions(data, bands, inputs, outputs)
+    extrapolated = (measurement is not None and measurement.scale_effect is not None
+                    and "drag" in measurement.scale_effect.coefficients)
+    requirements, sweeps, sens, design = _decisions(data, bands, inputs, outputs, extrapolated)
+    plan_requirements = tuple(r for r in requirements if r.output == EXTRAPOLATED_OUTPUT)
+    requirements = tuple(r for r in requirements if r.output != EXTRAPOLATED_OUTPUT)
     return Study(
         title=root.text("title", "untitled study"),
         description=root.text("description", ""),
@@ -519,7 +524,8 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         solve_for=solve_for, unknowns=unknowns, bands=bands, inputs=inputs, run=run,
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
         correlation=correlation, requirements=requirements, sweeps=sweeps, sensitivity=sens,
-        design=design, measurement=measurement, path=path, sha256=sha256,
+        design=design, measurement=measurement, plan_requirements=plan_requirements,
+        path=path, sha256=sha256,
     )
 
 
@@ -530,12 +536,14 @@ def _array(data: dict, key: str) -> list:
     return raw
 
 
-def _decisions(data: dict, bands, inputs, formed: set[str]) -> tuple:
+def _decisions(data: dict, bands, inputs, formed: set[str], extrapolated: bool = False
+               ) -> tuple:
     """``[[requirement]]``, ``[[sweep]]``, ``[sensitivity]``, ``[design]`` (spec.planning);
-    ``formed``: the outputs the model forms for this study."""
+    ``formed``: the outputs the model forms for this study; ``extrapolated``: whether it has a
+    scale effect on the drag (the extrapolation's output may then be limited)."""
     names = [i.name for i in inputs]
     outputs = [k for k in dict.fromkeys([b.output for b in bands] + sorted(formed)) if k in formed]
-    reqs = tuple(planning.requirement(d, i, bands, outputs)
+    reqs = tuple(planning.requirement(d, i, bands, outputs, extrapolated)
                  for i, d in enumerate(_array(data, "requirement")))
     sweeps = tuple(planning.sweep(d, i, names) for i, d in enumerate(_array(data, "sweep")))
     sens = planning.sensitivity(data["sensitivity"], names) if "sensitivity" in data \

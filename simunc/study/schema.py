@@ -376,24 +376,40 @@ class ScaleEffect:
     friction line ``line`` (:data:`simunc.physics.friction.FRICTION_LINES`), with ``compare``
     the lines whose disagreement is offered as a model-form uncertainty; ``method =
     "sensitivity"``: ``dC/dlog10 Re`` (``per_decade``) and ``dC/dM`` (``per_mach``) per
-    coefficient.  With a scale effect the stated coefficients are the full-scale values and the
-    tunnel's follow from the Reynolds and Mach numbers of each trial.
+    coefficient; ``method = "table"``: ``C`` against the Reynolds numbers ``reynolds`` (and, with
+    ``mach``, against the Mach numbers too: one row per Mach number) per coefficient
+    (``table``), read by :func:`simunc.physics.friction.tabulated`.  With a scale effect the
+    stated coefficients are the full-scale values and the tunnel's follow from the Reynolds and
+    Mach numbers of each trial: a law gives the change of a coefficient between two conditions,
+    its level is the stated coefficient's.  ``uncertainty`` (table and sensitivity): the
+    half-width of the rectangular relative error of that change (the law's model form).
     """
 
-    method: Literal["friction_line", "sensitivity"]
+    method: Literal["friction_line", "sensitivity", "table"]
     line: str = "ittc_1957"
     form_factor: float = 0.0
     wetted_ratio: float = 0.0
     compare: tuple[str, ...] = ()
     per_decade: Mapping[str, float] = field(default_factory=dict)
     per_mach: Mapping[str, float] = field(default_factory=dict)
+    reynolds: tuple[float, ...] = ()
+    mach: tuple[float, ...] = ()
+    table: Mapping[str, tuple] = field(default_factory=dict)
+    uncertainty: float = 0.0
 
     @property
     def coefficients(self) -> tuple[str, ...]:
         """The coefficients it moves."""
         if self.method == "friction_line":
             return ("drag",)
+        if self.method == "table":
+            return tuple(self.table)
         return tuple(dict.fromkeys(list(self.per_decade) + list(self.per_mach)))
+
+    @property
+    def model_form(self) -> bool:
+        """Whether the law carries a model-form input (compared lines, or an uncertainty)."""
+        return bool(self.compare) or self.uncertainty > 0.0
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -527,6 +543,10 @@ class Study:
     sensitivity: SensitivitySettings = field(default_factory=SensitivitySettings)
     design: DesignSettings = field(default_factory=DesignSettings)
     measurement: Measurement | None = None
+    #: Requirements on the split-test plan's extrapolation (output
+    #: :data:`~simunc.study.catalogue.EXTRAPOLATED_OUTPUT`): met by the number and spread of
+    #: the runs (:func:`simunc.decisions.extrapolation.runs_for`), not by the tolerances.
+    plan_requirements: tuple[Requirement, ...] = ()
     path: str = ""
     sha256: str = ""
 

@@ -209,7 +209,7 @@ def _run_locked(args, study) -> int:
         print(f"control more tightly first: {plain(t[t['controllable']].index[0])}")
     if result.requirement_checks is not None:
         met = sum(c.met for c in result.requirement_checks)
-        print(f"requirements met at the written tolerances: {met} of "
+        print(f"requirements on the outputs met at the written tolerances: {met} of "
               f"{len(result.requirement_checks)}")
     a = result.allocation
     if a is not None:

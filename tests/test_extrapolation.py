@@ -226,6 +226,9 @@ def test_reynolds_gap_demo_end_to_end(tmp_path):
     # a % of a zero-centred error means nothing
     ('expanded_uncertainty = "4 counts"', 'expanded_uncertainty = "5 %"',
      "requirement[0].expanded_uncertainty"),
+    # a plain 4 (meant as 4 counts) would be 40 000 counts
+    ('expanded_uncertainty = "4 counts"', 'expanded_uncertainty = 4',
+     "requirement[0].expanded_uncertainty"),
     # the extrapolation's requirement is an expanded uncertainty
     ('expanded_uncertainty = "4 counts"', 'within = "4 counts"\nprobability = "95 %"',
      "requirement[0].within"),

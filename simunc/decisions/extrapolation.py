@@ -37,7 +37,7 @@ import pandas as pd
 from simunc.decisions.coefficients import outside_table
 from simunc.decisions.design import stream_seed
 from simunc.decisions.pretest import inputs_at, moved
-from simunc.decisions.requirements import KINDS, Check, ExpandedUncertainty
+from simunc.decisions.requirements import KINDS, Check, ExpandedUncertainty, half_length_se
 from simunc.physics import friction
 from simunc.similitude.inputs import similitude_problem
 from simunc.similitude.testplan import sweep_run
@@ -64,7 +64,8 @@ class RunsFor:
     """The sweep that keeps U of the extrapolated drag within a requirement (:func:`runs_for`).
 
     ``designs``: the candidates simulated, fewest runs first (levels, runs per level, runs, the
-    Reynolds numbers spanned, U, met); ``chosen``: the row of the sweep chosen (None when no
+    Reynolds numbers spanned, U, its search margin of 3 standard errors, met: U + margin <=
+    limit); ``chosen``: the row of the sweep chosen (None when no
     candidate meets the limit); ``floor``: U of the limit of many runs (the shared errors
     alone).
     """
@@ -291,12 +292,16 @@ def runs_for(prep, plan, sim: _Simulator, checks: tuple[Check, ...]) -> RunsFor 
     def index(v: float) -> int:
         return int(np.argmin([abs(np.log(v / w)) for w in levels]))
 
-    def judged(cols: list[np.ndarray], re: list[float]) -> float:
-        est = _predict(prep, np.column_stack(cols), np.array(re), mach)
-        return _check(prep, req, est - sim.full, sim.trials).value
+    def judged(cols: list[np.ndarray], re: list[float]) -> tuple[float, float]:
+        """U of a sweep and its search margin: 3 standard errors of U from these trials
+        (:func:`~simunc.decisions.requirements.half_length_se`), so that the sweep chosen
+        meets the limit whatever the seed."""
+        err = _predict(prep, np.column_stack(cols), np.array(re), mach) - sim.full
+        p = ExpandedUncertainty.probability(req, st.run.coverage_probability)
+        return _check(prep, req, err, sim.trials).value, 3.0 * half_length_se(err, p)
 
     ends = [0, len(levels) - 1]
-    floor = judged([sim.drag(state(i)[0], None) for i in ends], [state(i)[1] for i in ends])
+    floor = judged([sim.drag(state(i)[0], None) for i in ends], [state(i)[1] for i in ends])[0]
     limit = checks[st.plan_requirements.index(req)].limit
     candidates = sorted(((n, k) for n in LEVELS for k in REPEATS), key=lambda c: (c[0] * c[1],
                                                                                 -c[0]))
@@ -306,15 +311,16 @@ def runs_for(prep, plan, sim: _Simulator, checks: tuple[Check, ...]) -> RunsFor 
             idx = [index(float(v)) for v in np.geomspace(re_low, re_top, n)]
             cols = [drag(i, rep) for i in idx for rep in range(k)]
             re = [state(i)[1] for i in idx for _ in range(k)]
-            U = judged(cols, re)
+            U, margin = judged(cols, re)
+            met = U + margin <= limit
             rows.append({"levels": n, "runs_per_level": k, "runs": n * k,
                          "reynolds_low": min(re), "reynolds_high": max(re), "U": U,
-                         "U_counts": U / COUNT, "met": U <= limit})
-            if U <= limit:
+                         "U_counts": U / COUNT, "margin": margin, "met": met})
+            if met:
                 chosen = len(rows) - 1
                 break
     probability = ExpandedUncertainty.probability(req, st.run.coverage_probability)
     return RunsFor(requirement=req.text, limit=limit, probability=probability,
                    designs=pd.DataFrame(rows, columns=[
                        "levels", "runs_per_level", "runs", "reynolds_low", "reynolds_high", "U",
-                       "U_counts", "met"]), chosen=chosen, floor=float(floor))
+                       "U_counts", "margin", "met"]), chosen=chosen, floor=float(floor))

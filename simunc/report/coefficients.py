@@ -33,9 +33,9 @@ def extrapolation_lines(result) -> list[str]:
     on it whether the plan meets it and the sweep that would."""
     e = result.extrapolation
     if e is None:
-        return [f"Requirement {lit(r.text)}: nothing to extrapolate (no split-test plan with "
-                "runs at the matched primary group: the set point reaches the Reynolds number "
-                "or the plan has no sweep)." for r in result.study.plan_requirements]
+        return [f"Requirement {lit(r.text)}: not judged: there is no extrapolation (it needs a "
+                "split-test plan with at least two runs at the matched primary group)."
+                for r in result.study.plan_requirements]
     pe = f"{100 * e.probability:g} %"
     lines = [f"Drag extrapolated from the split-test plan to full-scale Re (ratio {e.ratio:.3g}, "
              f"{lit(e.law)}): U ({pe}) = {two_digits(e.U_counts)} counts about the true value."]
@@ -48,12 +48,15 @@ def extrapolation_lines(result) -> list[str]:
 
 def _runs_for_text(r) -> str:
     """What sweep meets the requirement, or why none does."""
+    floor = (f" The errors the runs share alone leave U = {two_digits(r.floor / COUNT)} counts "
+             "(the limit of many runs).")
     if r.chosen is not None:
         d = r.designs.iloc[r.chosen]
         return (f"A sweep of {int(d['runs'])} runs meets it: {int(d['levels'])} Reynolds numbers "
                 f"from {d['reynolds_low']:.3g} to {d['reynolds_high']:.3g}, evenly spaced in "
                 f"log10 Re, {int(d['runs_per_level'])} run(s) at each (U = "
-                f"{two_digits(d['U_counts'])} counts).")
+                f"{two_digits(d['U_counts'])} counts, with a margin of 3 standard errors of the "
+                "simulation)." + floor)
     if r.floor > r.limit:
         return (f"No number of runs meets it: the errors the runs share (systematic inputs and "
                 f"the law's model form) alone give U = {two_digits(r.floor / COUNT)} counts; "

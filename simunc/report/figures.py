@@ -268,8 +268,8 @@ def extrapolation_plot(result) -> bytes:
                 color="#c0392b", capsize=4,
                 label=f"extrapolated CD; {pe} interval of the true value (U = "
                       f"{two_digits(e.U_counts)} counts)")
-    ax.plot([e.reynolds_full_scale], [e.full_scale * 1e4], marker="*", ms=12, ls="none",
-            color="#e1a33b", markeredgecolor="black", markeredgewidth=0.5, zorder=5,
+    ax.plot([e.reynolds_full_scale], [e.full_scale * 1e4], marker="*", ms=16, ls="none",
+            markerfacecolor="none", markeredgecolor="#b8860b", markeredgewidth=1.2, zorder=5,
             label="full-scale CD as stated (pre-test)")
     ax.set_xscale("log")
     # plain tick labels: the default log labels are mathtext, which LITERAL_TEXT turns off
@@ -297,10 +297,13 @@ def wall_plot(result) -> bytes:
     for ax, (_, row) in zip(axes[0], rows.iterrows()):
         scale = 1e-3 if row["output"] == "dynamic_pressure" else 1.0
         unit = {"dynamic_pressure": "kPa", "speed": "m/s"}.get(row["output"], "")
-        ax.bar([0], [row["uncorrected"] * scale], width=0.5, color="#bcccdc",
-               label="uncorrected (tunnel set value, empty-tunnel calibration)")
-        ax.bar([1], [row["corrected"] * scale], width=0.5, color="#4a78a8",
-               label="corrected for the walls")
+        # points, not bars: the axis does not start at zero, and a bar would exaggerate
+        ax.plot([0], [row["uncorrected"] * scale], "o", ms=8, color="#8fa7c0",
+                label="uncorrected (tunnel set value, empty-tunnel calibration)")
+        ax.plot([1], [row["corrected"] * scale], "s", ms=8, color="#4a78a8",
+                label="corrected for the walls")
+        ax.annotate("", xy=(1, row["corrected"] * scale), xytext=(0, row["uncorrected"] * scale),
+                    arrowprops={"arrowstyle": "->", "color": "#777777", "lw": 0.8})
         if np.isfinite(row["U"]):
             ax.errorbar([1], [row["corrected"] * scale], yerr=[row["U"] * scale], fmt="none",
                         color="black", capsize=5, label=f"U ({pe}) of the corrected value")
@@ -313,6 +316,7 @@ def wall_plot(result) -> bytes:
                    else 0.0, 1e-12)
         ax.set_ylim(min(values) - 3 * span, max(values) + 3 * span)
         ax.set_xticks([0, 1], ["uncorrected", "corrected"])
+        ax.set_xlim(-0.5, 1.5)
         ax.set_title(f"{plain(row['quantity'])}" + (f" [{unit}]" if unit else ""), fontsize=9)
         ax.grid(alpha=0.3, axis="y")
     handles, labels = axes[0][0].get_legend_handles_labels()

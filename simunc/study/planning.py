@@ -110,7 +110,14 @@ def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: st
     size = parse(t.key(kind), raw, _output_dimension(output), allow_relative=True)
     if size.relative and nominal_zero:
         raise StudyError(t.key(kind), raw, f"a plain number for {output} (its set-point value is "
-                         "zero, so a % of it means nothing)")
+                         "zero, so a % of it means nothing)" if output != EXTRAPOLATED_OUTPUT
+                         else "counts or a coefficient value, e.g. '4 counts' or 0.0004 (the "
+                         "limit is on the error of the extrapolated drag)")
+    if output == EXTRAPOLATED_OUTPUT and not size.relative and size.value >= 0.01 and \
+            "count" not in str(raw):
+        raise StudyError(t.key(kind), raw, "a limit on the error of the extrapolated drag below "
+                         "0.01 (100 counts): counts with their unit, e.g. '4 counts', or a "
+                         "coefficient value such as 0.0004")
     check_finite(t.key(kind), raw, size.value)
     if size.value <= 0.0:
         raise StudyError(t.key(kind), raw, "a limit greater than zero")

@@ -72,6 +72,10 @@ def _parser() -> argparse.ArgumentParser:
         r.add_argument("--samples", choices=("csv", "parquet"), help="also write the trials")
         r.add_argument("--overwrite", action="store_true",
                        help="replace files under the report's names that simunc did not write")
+        r.add_argument("--workers", type=_positive_int(0), help="test matrix: local worker "
+                       "processes (default: one per core; 0: run the points in this process)")
+        r.add_argument("--scheduler", metavar="ADDRESS", help="test matrix: run the points on "
+                       "the dask scheduler at this address (e.g. tcp://10.0.0.5:8786)")
         if name == "sweep":
             r.add_argument("--input", action="append", metavar="NAME",
                            help="input to sweep (give it twice for a 2-D sweep)")
@@ -179,7 +183,7 @@ def _run_locked(args, study) -> int:
     progress = _progress()
     try:
         result = run(study, trials=args.trials, seed=args.seed, parts=parts, extra_sweeps=extra,
-                     progress=progress)
+                     progress=progress, workers=args.workers, scheduler=args.scheduler)
     finally:
         if progress is not None:
             sys.stderr.write("\r\x1b[K")  # the progress line goes before anything else shows
@@ -203,6 +207,12 @@ def _run_locked(args, study) -> int:
                   f"{e.estimate:.5f}, U ({100 * e.probability:g} %) = "
                   f"{two_digits(e.U_counts)} counts")
         for line in extrapolation_lines(result)[0 if e is None else 1:]:
+            print(unmarked(line))
+    if result.matrix is not None:
+        from simunc.report.matrix import summary_lines as matrix_lines
+        from simunc.report.text import unmarked
+
+        for line in matrix_lines(result):
             print(unmarked(line))
     if result.tightening is not None and result.tightening["controllable"].any():
         t = result.tightening

@@ -24,6 +24,7 @@ from threadpoolctl import threadpool_limits
 from simunc.decisions.allocation import Allocation, allocate, input_limits
 from simunc.decisions.coefficients import CoefficientStage, coefficient_stage
 from simunc.decisions.extrapolation import Extrapolation, extrapolate
+from simunc.matrix.execute import MatrixResult, run_matrix
 from simunc.decisions.design import (
     DESIGN_STREAM,
     VERIFY_STREAM,
@@ -103,6 +104,8 @@ class Result:
     #: The split-test plan's runs extrapolated to full scale (a study with a scale effect whose
     #: Reynolds number falls short).
     extrapolation: Extrapolation | None = None
+    #: The test matrix's points, increments and slopes (a study with a [matrix] table).
+    matrix: MatrixResult | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -655,7 +658,8 @@ def _sensitivities(result_lpu: LPUResult, problem: Problem, correlation, outputs
 
 def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = (),
-        prepared: Prepared | None = None, progress: Progress | None = None) -> Result:
+        prepared: Prepared | None = None, progress: Progress | None = None,
+        workers: int | None = None, scheduler: str | None = None) -> Result:
     """Solve the set point, propagate the uncertain inputs, rank them, solve the requirements.
 
     Parameters
@@ -673,6 +677,10 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         The result of :func:`prepare` for this study, when the caller has it already.
     progress : callable, optional
         ``progress(stage, done, total)``, called as the long stages advance.
+    workers, scheduler : optional
+        Where a test matrix's points run (:func:`simunc.matrix.execute.run_matrix`): local
+        worker processes (default one per core; 0: in this process) or the dask scheduler at
+        this address.
     """
     if "sweeps" in parts:  # refuse sizes that cannot finish before anything runs
         check_sweep_budget(tuple(study.sweeps) + tuple(extra_sweeps), study.design)
@@ -699,4 +707,8 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         requirement_checks=dec.requirement_checks, input_limits=dec.input_limits,
         allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials,
         correlated_scaling=dec.correlated_scaling, coefficients=coef,
-        extrapolation=extrapolate(prep, test_plan))
+        extrapolation=extrapolate(prep, test_plan),
+        matrix=None if study.matrix is None else run_matrix(
+            study, setpoint.nominal, prep.settings.seed, workers=workers, scheduler=scheduler,
+            progress=None if progress is None else (
+                lambda done, total: progress("test matrix", done, total))))

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import copy
 import re
+import shutil
 import tomllib
 from pathlib import Path
 from typing import Any, NamedTuple
@@ -549,9 +550,16 @@ def test_catalogue_has_at_least_150_distinct_bad_studies():
 
 
 @pytest.mark.parametrize("case", CASES, ids=[c.name for c in CASES])
+def _beside(tmp_path) -> None:
+    """The demo studies' data files (a matrix's coefficient CSV) beside the bad study."""
+    for f in (ROOT / "studies").glob("*.csv"):
+        shutil.copy(f, tmp_path / f.name)
+
+
 def test_check_refuses(case, tmp_path, capsys):
     path = tmp_path / "study.toml"
     path.write_text(case.text)
+    _beside(tmp_path)
     code = main(["check", str(path)])
     io = capsys.readouterr()
     assert code == 2, (case.name, io.out, io.err)
@@ -571,8 +579,10 @@ def _run(case: Case, tmp_path, capsys, *extra: str):
     if "[design]" not in text and "design =" not in text:
         text += "\n[design]\ntrials = 1000\nverify_trials = 1000\n"
     path.write_text(text)
+    _beside(tmp_path)
     out = tmp_path / "out"
-    code = main(["run", str(path), "--trials", "200", "--out", str(out), *extra])
+    code = main(["run", str(path), "--trials", "200", "--out", str(out), "--workers", "0",
+                 *extra])
     io = capsys.readouterr()
     return code, io, out
 

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 
 from simunc import __version__
-from simunc.report import coefficients, decisions
+from simunc.report import coefficients, decisions, matrix
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
 from simunc.report.text import lit
@@ -91,6 +91,7 @@ def build(result) -> list[Block]:
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
     ] + coefficients.summary_lines(result) + coefficients.extrapolation_lines(result)
+        + matrix.summary_lines(result)
         + _first_to_tighten(result, sp)
         + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
             "and the facility limits."] if not sp.feasible else [])
@@ -283,6 +284,7 @@ def build(result) -> list[Block]:
                                                 "contribution", "share_percent"]])))
 
     b += coefficients.coefficient_blocks(result)
+    b += matrix.matrix_blocks(result)
     if result.inputs:
         b += decisions.sensitivity_blocks(result)
         b += decisions.tightening_blocks(result)

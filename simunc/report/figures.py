@@ -91,6 +91,16 @@ def sobol_bars(result) -> bytes:
     return _png(fig)
 
 
+def _power_of_ten(v: float, _pos=None) -> str:
+    """A tick label such as ``1e6`` (or ``2e6``).
+
+    >>> _power_of_ten(1.0e7), _power_of_ten(2.0e6)
+    ('1e7', '2e6')
+    """
+    mantissa, exponent = f"{v:.0e}".split("e")
+    return f"{mantissa}e{int(exponent)}"
+
+
 @_literal_text
 def envelope_map(result) -> bytes:
     """Reynolds number against Mach (or Froude) number: facility region, target and set point."""
@@ -102,6 +112,10 @@ def envelope_map(result) -> bytes:
         ax.plot(env.x, hi, color=c, lw=1.0)
     ax.plot(*env.target, marker="*", ms=14, color="#c0392b", ls="none", label="full scale")
     ax.plot(*env.setpoint, marker="o", ms=8, color="black", ls="none", label="set point")
+    if result.matrix is not None and env.abscissa == "mach":
+        pts = [p.setpoint for p in result.matrix.points if p.ok]
+        ax.plot([p["mach_model"] for p in pts], [p["reynolds_model"] for p in pts], marker="x",
+                ms=5, color="#8e44ad", ls="none", label=f"matrix points ({len(pts)})")
     if result.test_plan is not None:
         for r in result.test_plan.runs:
             x = r.outputs[f"{env.abscissa}_model"]
@@ -110,6 +124,8 @@ def envelope_map(result) -> bytes:
                 ax.annotate(r.label, (x, r.outputs["reynolds_model"]), textcoords="offset points",
                             xytext=(5, 3), fontsize=8)
     ax.set_yscale("log")
+    ax.yaxis.set_major_formatter(ticker.FuncFormatter(_power_of_ten))
+    ax.yaxis.set_minor_formatter(ticker.NullFormatter())
     ax.set_xlabel("Mach number" if env.abscissa == "mach" else "Froude number")
     ax.set_ylabel("Reynolds number")
     ax.set_title("Facility envelope")
@@ -235,16 +251,6 @@ def pretest_chart(result) -> bytes:
     return _png(fig)
 
 
-def _power_of_ten(v: float, _pos=None) -> str:
-    """A tick label such as ``1e6`` (or ``2e6``).
-
-    >>> _power_of_ten(1.0e7), _power_of_ten(2.0e6)
-    ('1e7', '2e6')
-    """
-    mantissa, exponent = f"{v:.0e}".split("e")
-    return f"{mantissa}e{int(exponent)}"
-
-
 @_literal_text
 def extrapolation_plot(result) -> bytes:
     """The drag coefficient against the Reynolds number (log axis): each run's mean with its U,
@@ -326,6 +332,45 @@ def wall_plot(result) -> bytes:
     return _png(fig)
 
 
+@_literal_text
+def matrix_plot(result) -> bytes:
+    """U of CD (counts) and CL at every matrix point, one line per run against the run axis,
+    with the requirement limits."""
+    mx, st = result.matrix, result.study
+    m = st.matrix
+    outs = [o for o in ("drag_coefficient", "lift_coefficient") if f"U_{o}" in mx.table]
+    fig, axes = plt.subplots(1, max(len(outs), 1), figsize=(5.8 * max(len(outs), 1), 4.2),
+                             squeeze=False)
+    axis = m.run_axis
+    t = mx.table[mx.table["error"] == ""] if "error" in mx.table else mx.table
+    colours = plt.get_cmap("tab10")
+    for ax, out in zip(axes[0], outs):
+        factor = 1e4 if out == "drag_coefficient" else 1.0
+        others = [a for a in m.axes if a != axis]
+        groups = t.groupby(others, sort=False) if others else [((), t)]
+        for i, (key, g) in enumerate(groups):
+            x = g[axis].to_numpy()
+            x = np.degrees(x.astype(float)) if axis == "angle_of_attack" else x
+            label = ", ".join(str(plain(f"{v:g}" if isinstance(v, float) else v))
+                              for v in (key if isinstance(key, tuple) else (key,)))
+            ax.plot(x, g[f"U_{out}"] * factor, marker="o", ms=3, lw=1.0,
+                    color=colours(i % 10), label=label or "all points")
+        limit = st.limit_of_output(out)
+        if limit:
+            ax.axhline(limit * factor, color="black", lw=0.9, ls="--", label="requirement")
+        ax.set_xlabel({"angle_of_attack": "angle of attack [deg]", "mach": "Mach number",
+                       "stagnation_pressure": "stagnation pressure [Pa]"}.get(axis, axis))
+        p = f"{100 * result.coverage_probability:g} %"
+        ax.set_ylabel(f"U ({p}) of CD [counts]" if factor != 1.0 else f"U ({p}) of CL")
+        ax.set_ylim(bottom=0.0)
+        ax.grid(alpha=0.3)
+    handles, labels = axes[0][0].get_legend_handles_labels()
+    fig.legend(handles, labels, fontsize=7, loc="lower center", ncol=4,
+               bbox_to_anchor=(0.5, -0.02 - 0.04 * ((len(labels) + 3) // 4)))
+    fig.tight_layout()
+    return _png(fig)
+
+
 def all_figures(result) -> dict[str, bytes]:
     """File name -> PNG bytes."""
     figs = {"reynolds_ratio_histogram.png": reynolds_histogram(result)}
@@ -343,4 +388,6 @@ def all_figures(result) -> dict[str, bytes]:
         figs["wall_corrections.png"] = wall_plot(result)
     if result.extrapolation is not None:
         figs["extrapolation.png"] = extrapolation_plot(result)
+    if result.matrix is not None:
+        figs["matrix_uncertainty.png"] = matrix_plot(result)
     return figs

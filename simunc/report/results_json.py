@@ -6,6 +6,7 @@ import json
 import math
 
 from simunc import __version__
+from simunc.report.matrix import matrix_json
 
 SCHEMA_VERSION = 1
 
@@ -202,6 +203,7 @@ def results_dict(result) -> dict:
             "line": result.extrapolation.line.to_dict(orient="list"),
             "requirements": [_check(c) for c in result.extrapolation.checks],
             "runs_for": _runs_for(result.extrapolation.runs_for)},
+        "matrix": matrix_json(result.matrix),
     }
     return _clean(doc)
 

@@ -48,7 +48,8 @@ class Prepared:
     copula: np.ndarray | None         # normal-score correlation that reproduces it (sampling)
 
 
-def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
+def prepare(study: Study, overrides: Overrides | None = None,
+            setpoint: SetPoint | None = None) -> Prepared:
     """Stage 1: solve the set point, build the model there and the inputs around it.
 
     Parameters
@@ -57,15 +58,23 @@ def prepare(study: Study, overrides: Overrides | None = None) -> Prepared:
         From :func:`simunc.load_study`.
     overrides : Overrides, optional
         Trials and seed replacing the study's ``[run]`` values.
+    setpoint : SetPoint, optional
+        The set point of this study already solved (a test matrix solves each distinct
+        condition once); solved here when not given.
     """
     o = overrides or Overrides()
     changes: dict[str, Any] = {k: v for k, v in (("trials", o.trials), ("seed", o.seed))
                                if v is not None}
     settings = replace(study.run, **changes)
     with np.errstate(all="ignore"):  # states outside a formula's range are refused, not warned
-        setpoint = solve(study)
+        given = setpoint is not None
+        if setpoint is None:
+            setpoint = solve(study)
         model = build_model(study, next(f for f in study.facility.fluids
                                         if f.name == setpoint.fluid))
+        if given:  # the state as solved, the outputs of this study's model there
+            setpoint = replace(setpoint, outputs={
+                k: float(np.asarray(v)) for k, v in model(setpoint.nominal).items()})
         inputs = tuple(build_inputs(study.inputs, setpoint))
     pearson = study.correlation.matrix if study.correlation else None
     copula = None

@@ -3,6 +3,14 @@
 from __future__ import annotations
 
 from simunc.study.catalogue import BALANCE_COMPONENTS, GROUPS
+from simunc.study.matrix import (
+    AXES_KEYS,
+    DRIFT_KEYS,
+    INCREMENT_KEYS,
+    MATRIX_KEYS,
+    POINT_KEYS,
+    SLOPE_KEYS,
+)
 from simunc.study.measurement import (
     BALANCE_KEYS,
     MEASUREMENT_KEYS,
@@ -14,7 +22,7 @@ from simunc.study.measurement import (
 
 ROOT_KEYS = ("title", "description", "full_scale", "facility", "model", "match", "uncertain",
               "correlations", "run", "dimensional_analysis", "requirement", "sweep",
-              "sensitivity", "design", "measurement")
+              "sensitivity", "design", "measurement", "matrix")
 FULL_SCALE_KEYS = ("fluid", "altitude", "pressure_altitude", "temperature_offset",
                     "static_pressure", "static_temperature", "depth", "mach", "speed",
                     "reference_length", "frequency", "frontal_area")
@@ -86,4 +94,10 @@ SECTION_KEYS: dict[str, tuple[str, ...]] = {
     "measurement.tap": TAP_KEYS,
     "measurement.walls": WALL_KEYS,
     "measurement.scale_effect": SCALE_KEYS,
+    "matrix": MATRIX_KEYS,
+    "matrix.axes": AXES_KEYS,
+    "matrix.point": POINT_KEYS,
+    "matrix.increment": INCREMENT_KEYS,
+    "matrix.slope": SLOPE_KEYS,
+    "matrix.drift": DRIFT_KEYS,
 }

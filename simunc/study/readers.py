@@ -22,6 +22,7 @@ from simunc.errors import GIVEN_LIMIT, StudyError, plain
 from simunc.physics import atmosphere, flow, groups
 from simunc.physics.fluids import AIR, FLUIDS, Fluid
 from simunc.study import planning
+from simunc.study.matrix import read_matrix
 from simunc.study.measurement import (
     check_measurement_inputs,
     read_measurement,
@@ -517,6 +518,12 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
     requirements, sweeps, sens, design = _decisions(data, bands, inputs, outputs, extrapolated)
     plan_requirements = tuple(r for r in requirements if r.output == EXTRAPOLATED_OUTPUT)
     requirements = tuple(r for r in requirements if r.output != EXTRAPOLATED_OUTPUT)
+    matrix = read_matrix(data["matrix"], measurement=measurement, full_scale_given=fs.given,
+                         unknowns=unknowns, input_names=[i.name for i in inputs],
+                         outputs=outputs, path=path, max_trials=run.trials or 200_000,
+                         random_inputs=tuple(i.name for i in inputs
+                                             if i.component == "random")) \
+        if "matrix" in data else None
     return Study(
         title=root.text("title", "untitled study"),
         description=root.text("description", ""),
@@ -525,7 +532,7 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
         correlation=correlation, requirements=requirements, sweeps=sweeps, sensitivity=sens,
         design=design, measurement=measurement, plan_requirements=plan_requirements,
-        path=path, sha256=sha256,
+        matrix=matrix, path=path, sha256=sha256,
     )
 
 

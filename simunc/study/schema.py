@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Literal, cast
+from typing import Any, Literal, cast
 
 import numpy as np
 
@@ -547,6 +547,8 @@ class Study:
     #: :data:`~simunc.study.catalogue.EXTRAPOLATED_OUTPUT`): met by the number and spread of
     #: the runs (:func:`simunc.decisions.extrapolation.runs_for`), not by the tolerances.
     plan_requirements: tuple[Requirement, ...] = ()
+    #: A test matrix (``[matrix]``): the study is then its base point.
+    matrix: Matrix | None = None
     path: str = ""
     sha256: str = ""
 
@@ -590,3 +592,77 @@ class Study:
         """L of :meth:`requirement_on` (None without one)."""
         r = self.requirement_on(output)
         return None if r is None else r.limit
+
+
+#: Axes a test matrix may vary (``[matrix.axes]``).
+MatrixAxis = Literal["mach", "angle_of_attack", "configuration", "stagnation_pressure"]
+MATRIX_AXES: tuple[str, ...] = ("mach", "angle_of_attack", "configuration", "stagnation_pressure")
+
+
+@dataclass(frozen=True, kw_only=True)
+class MatrixPoint:
+    """One point of a test matrix: its axis values (SI; a configuration by its label), the
+    expected coefficients there (empty: the study's own), and the run it belongs to with its
+    place in that run (the points along the run axis, in order, make one run)."""
+
+    index: int
+    values: Mapping[str, Any]
+    coefficients: Mapping[str, float]
+    run: int
+    position: int
+
+    @property
+    def label(self) -> str:
+        """``mach=0.78, angle_of_attack=2 deg, ...`` (angles in degrees, pressures in bar)."""
+        parts = []
+        for k, v in self.values.items():
+            if k == "angle_of_attack":
+                parts.append(f"{k}={math.degrees(v):.4g} deg")
+            elif k == "stagnation_pressure":
+                parts.append(f"{k}={v / 1e5:.4g} bar")
+            elif isinstance(v, str):
+                parts.append(f"{k}={v}")
+            else:
+                parts.append(f"{k}={v:.4g}")
+        return ", ".join(parts)
+
+
+@dataclass(frozen=True, kw_only=True)
+class MatrixDerived:
+    """A quantity formed across the points of a matrix (``[[matrix.increment]]``,
+    ``[[matrix.slope]]``): the increment ``output(axis = minuend) - output(axis = subtrahend)``,
+    or the least-squares slope of ``output`` against ``axis`` (SI per SI: per radian for the
+    angle of attack), at every combination of the other axes; ``limit``: U it must not exceed
+    (None: no requirement)."""
+
+    key: str
+    kind: Literal["increment", "slope"]
+    name: str
+    output: str
+    axis: str
+    minuend: Any = None
+    subtrahend: Any = None
+    limit: float | None = None
+
+
+@dataclass(frozen=True, kw_only=True)
+class Drift:
+    """An input that drifts along the points of a run: its normal score follows a first-order
+    autoregression with ``correlation`` between successive points (``[[matrix.drift]]``)."""
+
+    input: str
+    correlation: float
+
+
+@dataclass(frozen=True, kw_only=True)
+class Matrix:
+    """A test matrix (``[matrix]``): the points, the set-point variables held at the base
+    set point, the derived quantities, the drifting inputs and the trials per point."""
+
+    axes: tuple[str, ...]
+    run_axis: str
+    points: tuple[MatrixPoint, ...]
+    hold: tuple[str, ...] = ()
+    derived: tuple[MatrixDerived, ...] = ()
+    drift: tuple[Drift, ...] = ()
+    trials: int = 20_000

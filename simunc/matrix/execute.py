@@ -1,0 +1,205 @@
+"""Running a test matrix: every point a task, on dask.distributed or in this process.
+
+By default the points run on a ``LocalCluster`` with one single-threaded worker process per core;
+``scheduler`` names an existing cluster instead; ``workers = 0`` runs them here, one after the
+other.  Each task is :func:`simunc.matrix.engine.evaluate_point`, a pure function of the study,
+the point's index and the seed, and the results are put back in point order before anything is
+formed across points, so every number is the same bit for bit whatever the number of workers or
+the order the tasks finish in.  The study goes to the workers once (scattered); no trial array is
+shipped to them.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+
+import pandas as pd
+
+from simunc.matrix.engine import DerivedResult, PointResult, derive, evaluate_point, held_values
+from simunc.errors import StudyError
+from simunc.study.schema import Study
+
+#: Progress callback: (points done, points in all).
+MatrixProgress = Callable[[int, int], None]
+
+
+@dataclass(frozen=True, kw_only=True)
+class MatrixResult:
+    """A test matrix's results: one :class:`PointResult` per point (in point order), the derived
+    quantities, the summary table (one row per point), the ranking of the inputs that lead the
+    most points, and how it ran (workers, seconds)."""
+
+    points: tuple[PointResult, ...]
+    derived: tuple[DerivedResult, ...]
+    table: pd.DataFrame
+    leaders: pd.DataFrame
+    worst: pd.DataFrame
+    derived_table: pd.DataFrame
+    workers: int
+    scheduler: str
+    seconds: float
+    seed: int
+    trials: int
+
+    @property
+    def failed(self) -> tuple[PointResult, ...]:
+        return tuple(p for p in self.points if not p.ok)
+
+
+def _default_workers() -> int:
+    return max(1, len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity")
+               else (os.cpu_count() or 1))
+
+
+def run_matrix(study: Study, base_nominal: dict, seed: int, *, workers: int | None = None,
+               scheduler: str | None = None, progress: MatrixProgress | None = None
+               ) -> MatrixResult:
+    """Every point of ``study.matrix`` (module docstring)."""
+    m = study.matrix
+    assert m is not None
+    held = held_values(study, base_nominal)
+    n = len(m.points)
+    start = time.perf_counter()
+    if scheduler is None and workers == 0:
+        results = []
+        for i in range(n):
+            results.append(evaluate_point(study, i, seed, held))
+            if progress is not None:
+                progress(i + 1, n)
+        used, where = 0, "this process"
+    else:
+        results, used, where = _on_dask(study, seed, held, n, workers, scheduler, progress)
+    seconds = time.perf_counter() - start
+    derived = derive(study, results)
+    out = MatrixResult(points=tuple(results), derived=tuple(derived),
+                       table=summary_table(study, results), leaders=leaders(study, results),
+                       worst=pd.DataFrame(), derived_table=derived_table(derived), workers=used, scheduler=where, seconds=seconds,
+                       seed=seed, trials=m.trials)
+    return replace(out, worst=pd.DataFrame(worst_points(study, out), columns=[
+        "requirement", "points_met", "points", "worst_point", "value", "limit", "met_at_worst"]))
+
+
+def _on_dask(study, seed, held, n, workers, scheduler, progress):
+    from dask.distributed import Client, LocalCluster, as_completed
+
+    cluster = None
+    if scheduler is None:
+        workers = workers or _default_workers()
+        cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
+                               dashboard_address=None, silence_logs=50)
+        client = Client(cluster)
+        where = f"local cluster of {workers} worker process(es)"
+    else:
+        try:
+            client = Client(scheduler, timeout=30)
+        except (OSError, TimeoutError, ValueError) as exc:
+            raise StudyError("--scheduler", scheduler, "the address of a running dask "
+                             f"scheduler ({type(exc).__name__})") from None
+        where = f"scheduler {scheduler}"
+    try:
+        used = len(client.scheduler_info().get("workers", {}))
+        shared = client.scatter(study, broadcast=True)
+        futures = [client.submit(evaluate_point, shared, i, seed, held, pure=False,
+                                 key=f"simunc-point-{i}-{seed}-{time.time_ns()}")
+                   for i in range(n)]
+        done = 0
+        for _ in as_completed(futures):
+            done += 1
+            if progress is not None:
+                progress(done, n)
+        results = [f.result() for f in futures]  # point order, whatever order they finished in
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
+    return results, used, where
+
+
+def derived_table(derived) -> pd.DataFrame:
+    """One row per increment or slope and combination of the other axes: nominal, mean, u,
+    u (LPU), the interval, U, the limit and whether it is met, and the two largest shares of
+    its LPU budget."""
+    rows = []
+    for d in derived:
+        top = sorted(d.budget.items(), key=lambda kv: -kv[1])[:2]
+        rows.append({"quantity": d.name, "kind": d.kind, "at": d.at, "nominal": d.nominal,
+                     "mean": d.mean, "u": d.u, "u_lpu": d.u_lpu, "low": d.low, "high": d.high,
+                     "U": d.U, "limit": d.limit, "met": d.met,
+                     "leading_inputs": "; ".join(f"{k} ({100 * v:.0f} %)" for k, v in top
+                                                 if v > 0.0)})
+    return pd.DataFrame(rows, columns=["quantity", "kind", "at", "nominal", "mean", "u",
+                                       "u_lpu", "low", "high", "U", "limit", "met",
+                                       "leading_inputs"])
+
+
+def summary_table(study: Study, results: list[PointResult]) -> pd.DataFrame:
+    """One row per point: its axis values, set point, P(in band), U of each coefficient and the
+    requirements met (or the point's error)."""
+    m = study.matrix
+    assert m is not None
+    rows = []
+    for r in results:
+        pt = m.points[r.index]
+        row: dict = {"point": r.index + 1, **{k: v for k, v in pt.values.items()}}
+        if not r.ok:
+            row["error"] = r.error
+            rows.append(row)
+            continue
+        sp = r.setpoint
+        row.update({k: sp[k] for k in ("stagnation_pressure", "mach_model", "speed",
+                                       "reynolds_ratio") if k in sp})
+        row["feasible"] = r.feasible
+        row["P_in_band"] = r.conformity
+        assert r.statistics is not None
+        for o in study.coefficient_outputs:
+            if o in r.statistics.index:
+                row[f"U_{o}"] = float(r.statistics.loc[o, "U"])
+        row["requirements_met"] = sum(c.met for c in r.checks)
+        row["requirements"] = len(r.checks)
+        row["error"] = ""
+        rows.append(row)
+    return pd.DataFrame(rows)
+
+
+def leaders(study: Study, results: list[PointResult]) -> pd.DataFrame:
+    """Per input, at how many points it is the largest contributor (linear budget) to each
+    requirement output (else each coefficient output): which input limits the most points."""
+    outs = [r.output for r in study.requirements if r.output] or list(study.coefficient_outputs)
+    counts: dict[tuple[str, str], int] = {}
+    for r in results:
+        if not r.ok or r.weights is None or not len(r.weights.columns):
+            continue
+        for o in outs:
+            if o in r.weights.index:
+                w = r.weights.loc[o].abs()
+                if float(w.max()) > 0.0:
+                    key = (o, str(w.idxmax()))
+                    counts[key] = counts.get(key, 0) + 1
+    rows = [{"output": o, "input": i, "points_led": c} for (o, i), c in counts.items()]
+    df = pd.DataFrame(rows, columns=["output", "input", "points_led"])
+    return df.sort_values(["output", "points_led"], ascending=[True, False]).reset_index(
+        drop=True)
+
+
+def worst_points(study: Study, result: MatrixResult) -> list[dict]:
+    """Per requirement, the point where it is hardest to meet (largest value / limit for an
+    expanded uncertainty, smallest probability otherwise) and how many points meet it."""
+    out = []
+    for k, req in enumerate(study.requirements):
+        vals = [(p.checks[k].value, p.checks[k].limit, p.checks[k].met, p.index)
+                for p in result.points if p.ok and len(p.checks) > k]
+        if not vals:
+            continue
+        if req.kind == "expanded_uncertainty":
+            worst = max(vals, key=lambda v: v[0] / v[1] if v[1] > 0 else math.inf)
+        else:
+            worst = min(vals, key=lambda v: v[0])
+        out.append({"requirement": req.text, "points_met": int(sum(v[2] for v in vals)),
+                    "points": len(vals), "worst_point": worst[3] + 1, "value": worst[0],
+                    "limit": worst[1], "met_at_worst": bool(worst[2])})
+    return out
+

@@ -1,0 +1,95 @@
+"""Report blocks of a test matrix: the points, the increments and slopes, the worst points."""
+
+from __future__ import annotations
+
+import math
+
+from simunc.report.blocks import Block, table
+from simunc.report.text import lit, two_digits
+from simunc.units import COUNT
+
+
+def summary_lines(result) -> list[str]:
+    """Summary bullets of a matrix: points run, failures, requirements at the worst point, and
+    the increments and slopes against their limits."""
+    mx = result.matrix
+    if mx is None:
+        return []
+    n = len(mx.points)
+    lines = [f"Test matrix: {n} points ({mx.trials} trials each, {lit(mx.scheduler)}, "
+             f"{mx.seconds:.0f} s)" + (f"; {len(mx.failed)} point(s) FAILED: "
+                                       + "; ".join(f"{p.index + 1} ({lit(p.error)})"
+                                                   for p in mx.failed[:3]) if mx.failed else "")
+             + "."]
+    for _, w in mx.worst.iterrows():
+        lines.append(f"Matrix requirement {lit(w['requirement'])}: met at {w['points_met']} of "
+                     f"{w['points']} points; hardest at point {w['worst_point']} "
+                     f"({'met' if w['met_at_worst'] else 'not met'} there).")
+    d = mx.derived_table
+    for name, g in d.groupby("quantity", sort=False):
+        limited = g[g["limit"].notna()]
+        worst = g.loc[g["U"].idxmax()]
+        text = f"{lit(name)}: U up to {_u(worst['U'], name, result)} ({lit(worst['at'])})"
+        if len(limited):
+            met = int(limited["met"].astype(bool).sum())
+            text += f"; within its limit at {met} of {len(limited)}"
+        lines.append(text + f"; led by {lit(worst['leading_inputs'])}.")
+    return lines
+
+
+def _u(U: float, name: str, result) -> str:
+    d = next((x for x in result.study.matrix.derived if x.name == name), None)
+    if d is not None and d.kind == "increment" and d.output == "drag_coefficient":
+        return f"{two_digits(U / COUNT)} counts"
+    if d is not None and d.kind == "slope" and d.axis == "angle_of_attack":
+        return f"{two_digits(U * math.pi / 180.0)} per deg"
+    return two_digits(U)
+
+
+def matrix_blocks(result) -> list[Block]:
+    mx = result.matrix
+    if mx is None:
+        return []
+    p = f"{100 * result.coverage_probability:g} %"
+    b = [Block("heading", "Test matrix"),
+         Block("paragraph", f"{len(mx.points)} points, each solved and analysed as a study of its "
+               f"own with {mx.trials} trials ({lit(mx.scheduler)}, {mx.seconds:.1f} s, seed "
+               f"{mx.seed}). In one trial every systematic input takes one draw for all the "
+               "points, every random input a draw of its own at each point, and a drifting "
+               "input a first-order autoregression along the points of a run (AIAA S-071A, "
+               "ASME PTC 19.1). Increments and slopes are formed trial by trial, so a shared "
+               "error cancels in them as far as the points' sensitivities agree; their budgets "
+               f"are the law of propagation with those correlations (JCGM 100 5.2). U at {p}.")]
+    if len(mx.worst):
+        b.append(Block("paragraph", "Requirements at every point (the point where each is "
+                       "hardest to meet):"))
+        b.append(Block("table", table(mx.worst)))
+    if len(mx.derived_table):
+        b.append(Block("paragraph", "Increments and slopes (slopes per radian of angle of "
+                       "attack, per unit Mach number or per pascal):"))
+        b.append(Block("table", table(mx.derived_table)))
+    if len(mx.leaders):
+        b.append(Block("paragraph", "Inputs that lead the most points (largest term of the "
+                       "linear budget of each output at each point):"))
+        b.append(Block("table", table(mx.leaders)))
+    b.append(Block("figure", "matrix_uncertainty.png", caption=(
+        f"U ({p}) of the drag (counts) and lift coefficients at every point of the matrix, one "
+        "line per run, with the requirements.")))
+    b.append(Block("paragraph", "The points (set point, probability that every matched group "
+                   "is in its band, U of each coefficient, requirements met):"))
+    b.append(Block("table", table(mx.table)))
+    return b
+
+
+def matrix_json(mx) -> dict | None:
+    if mx is None:
+        return None
+    return {"points": mx.table.to_dict(orient="records"),
+            "derived": mx.derived_table.to_dict(orient="records"),
+            "leaders": mx.leaders.to_dict(orient="records"),
+            "worst": mx.worst.to_dict(orient="records"),
+            "failed": [{"point": p.index + 1, "label": p.label, "error": p.error}
+                       for p in mx.failed],
+            "trials": mx.trials, "seed": mx.seed, "workers": mx.workers,
+            "scheduler": mx.scheduler, "seconds": mx.seconds}
+

@@ -24,7 +24,15 @@ from threadpoolctl import threadpool_limits
 from simunc.decisions.allocation import Allocation, allocate, input_limits
 from simunc.decisions.coefficients import CoefficientStage, coefficient_stage
 from simunc.decisions.extrapolation import Extrapolation, extrapolate
-from simunc.matrix.execute import MatrixResult, run_matrix
+from simunc.matrix.engine import held_values
+from simunc.matrix.execute import (
+    MatrixResult,
+    WorstPointDecision,
+    checks_table,
+    hardest_point,
+    run_matrix,
+)
+from simunc.matrix.points import point_study
 from simunc.decisions.design import (
     DESIGN_STREAM,
     VERIFY_STREAM,
@@ -106,6 +114,9 @@ class Result:
     extrapolation: Extrapolation | None = None
     #: The test matrix's points, increments and slopes (a study with a [matrix] table).
     matrix: MatrixResult | None = None
+    #: The requirement solver and allocation at the matrix's hardest point, the allocation
+    #: checked at every point (a matrix study with requirements).
+    matrix_decision: WorstPointDecision | None = None
 
     @property
     def coverage_probability(self) -> float:
@@ -656,6 +667,40 @@ def _sensitivities(result_lpu: LPUResult, problem: Problem, correlation, outputs
     return pd.concat([have.loc[[o for o in outputs if o in have.index]], extra])
 
 
+def matrix_decision_stage(prep: Prepared, mx: MatrixResult | None, parts: Sequence[Part],
+                          workers: int | None, scheduler: str | None,
+                          progress: Progress | None = None) -> WorstPointDecision | None:
+    """The requirements met at the matrix's hardest point: that point analysed as the study
+    is (Monte Carlo, sensitivity, GUM, then the requirement solver and, with costs, the
+    allocation), and the allocated tolerances run again at every point of the matrix."""
+    st = prep.study
+    if mx is None or "requirements" not in parts or not st.requirements:
+        return None
+    k = hardest_point(st, mx)
+    if k is None:
+        return None
+    assert st.matrix is not None
+    point = st.matrix.points[k]
+    if progress is not None:
+        progress(f"requirements at the hardest matrix point ({k + 1})", 0, 1)
+    pprep = prepare(point_study(st, point, held_values(st, prep.setpoint.nominal)),
+                    Overrides(trials=prep.settings.trials, seed=prep.settings.seed))
+    mc = monte_carlo_stage(pprep)
+    sens = sensitivity_stage(pprep, mc)
+    dec = decision_stage(pprep, sens, gum_stage(pprep, mc), ("requirements",))
+    a = dec.allocation
+    checks = None
+    if a is not None and not a.message:
+        again = run_matrix(st, prep.setpoint.nominal, prep.settings.seed, workers=workers,
+                           scheduler=scheduler, scale=tuple(float(v) for v in a.scale),
+                           progress=None if progress is None else (
+                               lambda done, total: progress("matrix at the allocation", done,
+                                                            total)))
+        checks = checks_table(again)
+    return WorstPointDecision(point=k, label=point.label, limits=dec.input_limits,
+                              allocation=a, checks=checks)
+
+
 def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         parts: Sequence[Part] = PARTS, extra_sweeps: Sequence[Sweep] = (),
         prepared: Prepared | None = None, progress: Progress | None = None,
@@ -694,6 +739,10 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
     coef = coefficient_stage(prep, mc.statistics, sens.sobol)
     study, setpoint, model = prep.study, prep.setpoint, prep.model
     test_plan = plan(study, model, setpoint)
+    mx = None if study.matrix is None else run_matrix(
+        study, setpoint.nominal, prep.settings.seed, workers=workers, scheduler=scheduler,
+        progress=None if progress is None else (
+            lambda done, total: progress("test matrix", done, total)))
     return Result(
         study=study, settings=prep.settings, setpoint=setpoint, inputs=prep.inputs,
         trials=mc.engine.trials, seed=prep.settings.seed, statistics=mc.statistics,
@@ -707,8 +756,5 @@ def run(study: Study, trials: int | None = None, seed: int | None = None, *,
         requirement_checks=dec.requirement_checks, input_limits=dec.input_limits,
         allocation=dec.allocation, sweeps=dec.sweeps, design_trials=dec.design_trials,
         correlated_scaling=dec.correlated_scaling, coefficients=coef,
-        extrapolation=extrapolate(prep, test_plan),
-        matrix=None if study.matrix is None else run_matrix(
-            study, setpoint.nominal, prep.settings.seed, workers=workers, scheduler=scheduler,
-            progress=None if progress is None else (
-                lambda done, total: progress("test matrix", done, total))))
+        extrapolation=extrapolate(prep, test_plan), matrix=mx,
+        matrix_decision=matrix_decision_stage(prep, mx, parts, workers, scheduler, progress))

@@ -549,13 +549,13 @@ def test_catalogue_has_at_least_150_distinct_bad_studies():
     assert {c.study for c in CASES} == set(STUDIES)
 
 
-@pytest.mark.parametrize("case", CASES, ids=[c.name for c in CASES])
 def _beside(tmp_path) -> None:
     """The demo studies' data files (a matrix's coefficient CSV) beside the bad study."""
     for f in (ROOT / "studies").glob("*.csv"):
         shutil.copy(f, tmp_path / f.name)
 
 
+@pytest.mark.parametrize("case", CASES, ids=[c.name for c in CASES])
 def test_check_refuses(case, tmp_path, capsys):
     path = tmp_path / "study.toml"
     path.write_text(case.text)

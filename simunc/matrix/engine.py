@@ -106,8 +106,11 @@ def held_values(study: Study, base_nominal: dict) -> dict[str, float]:
     return {} if m is None else {k: float(base_nominal[k]) for k in m.hold}
 
 
-def evaluate_point(study: Study, index: int, seed: int, held: dict[str, float]) -> PointResult:
-    """The analysis of point ``index`` of ``study.matrix`` (module docstring)."""
+def evaluate_point(study: Study, index: int, seed: int, held: dict[str, float],
+                   scale: tuple[float, ...] | None = None) -> PointResult:
+    """The analysis of point ``index`` of ``study.matrix`` (module docstring); ``scale``: a
+    factor on each input's deviations ([[uncertain]] order), as an allocation scales its
+    tolerance (exact for the location-scale families, as the design sample scales them)."""
     m = study.matrix
     assert m is not None
     point = m.points[index]
@@ -122,8 +125,11 @@ def evaluate_point(study: Study, index: int, seed: int, held: dict[str, float]) 
                                if p.run == point.run and p.position < point.position)
             u = point_uniforms(seed, m.trials, systematic, index, run_before, drift,
                                prep.copula)
-            y = prep.problem.evaluate(map_to_inputs(u, prep.problem.distributions)) \
-                if names else prep.problem.evaluate(np.zeros((m.trials, 0)))
+            x = map_to_inputs(u, prep.problem.distributions) if names else np.zeros(
+                (m.trials, 0))
+            if scale is not None:
+                x = x * np.asarray(scale, dtype=float)[None, :]
+            y = prep.problem.evaluate(x)
             outs = [o for o in outputs_of(study) if o in y]
             p = study.run.coverage_probability
             rows = []
@@ -141,7 +147,8 @@ def evaluate_point(study: Study, index: int, seed: int, held: dict[str, float]) 
                                      trials=m.trials))
             if names:
                 _, c = sensitivity_coefficients(prep.problem, outs)
-                sigma = np.array([i.standard_uncertainty for i in prep.inputs])
+                sigma = np.array([i.standard_uncertainty for i in prep.inputs]) * (
+                    1.0 if scale is None else np.asarray(scale, dtype=float))
                 weights = c * sigma[None, :]
             else:
                 weights = pd.DataFrame(index=pd.Index(outs, name="output"))

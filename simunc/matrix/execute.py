@@ -16,6 +16,7 @@ import os
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, replace
+from typing import Any
 
 import pandas as pd
 
@@ -56,9 +57,10 @@ def _default_workers() -> int:
 
 
 def run_matrix(study: Study, base_nominal: dict, seed: int, *, workers: int | None = None,
-               scheduler: str | None = None, progress: MatrixProgress | None = None
-               ) -> MatrixResult:
-    """Every point of ``study.matrix`` (module docstring)."""
+               scheduler: str | None = None, progress: MatrixProgress | None = None,
+               scale: tuple[float, ...] | None = None) -> MatrixResult:
+    """Every point of ``study.matrix`` (module docstring); ``scale``: the factor of each
+    input's tolerance (an allocation's), 1 as written."""
     m = study.matrix
     assert m is not None
     held = held_values(study, base_nominal)
@@ -67,12 +69,13 @@ def run_matrix(study: Study, base_nominal: dict, seed: int, *, workers: int | No
     if scheduler is None and workers == 0:
         results = []
         for i in range(n):
-            results.append(evaluate_point(study, i, seed, held))
+            results.append(evaluate_point(study, i, seed, held, scale))
             if progress is not None:
                 progress(i + 1, n)
         used, where = 0, "this process"
     else:
-        results, used, where = _on_dask(study, seed, held, n, workers, scheduler, progress)
+        results, used, where = _on_dask(study, seed, held, n, workers, scheduler, progress,
+                                        scale)
     seconds = time.perf_counter() - start
     derived = derive(study, results)
     out = MatrixResult(points=tuple(results), derived=tuple(derived),
@@ -83,7 +86,7 @@ def run_matrix(study: Study, base_nominal: dict, seed: int, *, workers: int | No
         "requirement", "points_met", "points", "worst_point", "value", "limit", "met_at_worst"]))
 
 
-def _on_dask(study, seed, held, n, workers, scheduler, progress):
+def _on_dask(study, seed, held, n, workers, scheduler, progress, scale):
     from dask.distributed import Client, LocalCluster, as_completed
 
     cluster = None
@@ -103,7 +106,7 @@ def _on_dask(study, seed, held, n, workers, scheduler, progress):
     try:
         used = len(client.scheduler_info().get("workers", {}))
         shared = client.scatter(study, broadcast=True)
-        futures = [client.submit(evaluate_point, shared, i, seed, held, pure=False,
+        futures = [client.submit(evaluate_point, shared, i, seed, held, scale, pure=False,
                                  key=f"simunc-point-{i}-{seed}-{time.time_ns()}")
                    for i in range(n)]
         done = 0
@@ -134,6 +137,52 @@ def derived_table(derived) -> pd.DataFrame:
     return pd.DataFrame(rows, columns=["quantity", "kind", "at", "nominal", "mean", "u",
                                        "u_lpu", "low", "high", "U", "limit", "met",
                                        "leading_inputs"])
+
+
+@dataclass(frozen=True, kw_only=True)
+class WorstPointDecision:
+    """The requirement solver and the allocation at the matrix's hardest point, and the
+    allocation checked at every point: ``point`` (index), ``limits`` (the largest tolerance of
+    each input alone there), ``allocation`` (None without costs), ``checks``: per point the
+    requirements with the allocated tolerances (None without an allocation)."""
+
+    point: int
+    label: str
+    limits: pd.DataFrame | None
+    allocation: Any
+    checks: pd.DataFrame | None
+
+    @property
+    def met_everywhere(self) -> bool | None:
+        if self.checks is None:
+            return None
+        return bool(self.checks["all_met"].all())
+
+
+def hardest_point(study: Study, result: MatrixResult) -> int | None:
+    """The point where the requirements are hardest to meet: the largest U / limit (expanded
+    uncertainties) or shortfall of probability (the others), over every requirement."""
+    worst, where = -math.inf, None
+    for p in result.points:
+        if not p.ok:
+            continue
+        for c in p.checks:
+            score = (c.value / c.limit if c.kind == "expanded_uncertainty" and c.limit > 0
+                     else 1.0 + (c.limit - c.value))
+            if score > worst:
+                worst, where = score, p.index
+    return where
+
+
+def checks_table(result: MatrixResult) -> pd.DataFrame:
+    """Per point: each requirement met, and all met."""
+    rows = []
+    for p in result.points:
+        row = {"point": p.index + 1, "label": p.label}
+        row.update({c.key: bool(c.met) for c in p.checks})
+        row["all_met"] = p.ok and all(c.met for c in p.checks)
+        rows.append(row)
+    return pd.DataFrame(rows)
 
 
 def summary_table(study: Study, results: list[PointResult]) -> pd.DataFrame:

@@ -25,6 +25,21 @@ def summary_lines(result) -> list[str]:
         lines.append(f"Matrix requirement {lit(w['requirement'])}: met at {w['points_met']} of "
                      f"{w['points']} points; hardest at point {w['worst_point']} "
                      f"({'met' if w['met_at_worst'] else 'not met'} there).")
+    wd = result.matrix_decision
+    if wd is not None:
+        a = wd.allocation
+        if a is None:
+            lines.append(f"Hardest matrix point: {wd.point + 1} ({lit(wd.label)}); the largest "
+                         "tolerance of each input alone there is in the matrix section.")
+        elif a.message:
+            lines.append(f"Allocation at the hardest matrix point {wd.point + 1}: none meets "
+                         f"the requirements ({lit(a.message)}).")
+        else:
+            met = int(wd.checks["all_met"].sum()) if wd.checks is not None else 0
+            lines.append(f"Allocation at the hardest matrix point {wd.point + 1} "
+                         f"({lit(wd.label)}): cost {a.cost:.6g}; with it every requirement "
+                         f"holds at {met} of {len(wd.checks) if wd.checks is not None else 0} "
+                         "points.")
     d = mx.derived_table
     for name, g in d.groupby("quantity", sort=False):
         limited = g[g["limit"].notna()]
@@ -68,6 +83,25 @@ def matrix_blocks(result) -> list[Block]:
         b.append(Block("paragraph", "Increments and slopes (slopes per radian of angle of "
                        "attack, per unit Mach number or per pascal):"))
         b.append(Block("table", table(mx.derived_table)))
+    wd = result.matrix_decision
+    if wd is not None:
+        b.append(Block("paragraph", f"Requirements at the hardest point, {wd.point + 1} "
+                       f"({lit(wd.label)}), solved as for the study's own point: the largest "
+                       "tolerance of each input alone (the others as written) there:"))
+        if wd.limits is not None:
+            b.append(Block("table", table(wd.limits.reset_index())))
+        a = wd.allocation
+        if a is not None and a.message:
+            b.append(Block("paragraph", f"No allocation meets them there: {lit(a.message)}."))
+        elif a is not None:
+            b.append(Block("paragraph", f"Least-cost allocation there: cost {a.cost:.6g} "
+                           f"(fresh check at that point {'passed' if a.verified else 'FAILED'}); "
+                           "the matrix run again with the allocated tolerances (the same draws) "
+                           "gives at each point:"))
+            if a.table is not None:
+                b.append(Block("table", table(a.table.reset_index())))
+            if wd.checks is not None:
+                b.append(Block("table", table(wd.checks)))
     if len(mx.leaders):
         b.append(Block("paragraph", "Inputs that lead the most points (largest term of the "
                        "linear budget of each output at each point):"))
@@ -81,10 +115,20 @@ def matrix_blocks(result) -> list[Block]:
     return b
 
 
-def matrix_json(mx) -> dict | None:
+def matrix_json(mx, wd=None) -> dict | None:
     if mx is None:
         return None
-    return {"points": mx.table.to_dict(orient="records"),
+    a = None if wd is None else wd.allocation
+    return {
+            "hardest_point": None if wd is None else {
+                "point": wd.point + 1, "label": wd.label,
+                "input_limits": None if wd.limits is None else
+                wd.limits.reset_index().to_dict(orient="records"),
+                "allocation": None if a is None else {
+                    "message": a.message, "cost": a.cost, "verified_there": a.verified,
+                    "scale": [float(v) for v in a.scale]},
+                "points_at_allocation": None if wd.checks is None else
+                wd.checks.to_dict(orient="records")},"points": mx.table.to_dict(orient="records"),
             "derived": mx.derived_table.to_dict(orient="records"),
             "leaders": mx.leaders.to_dict(orient="records"),
             "worst": mx.worst.to_dict(orient="records"),

@@ -203,7 +203,7 @@ def results_dict(result) -> dict:
             "line": result.extrapolation.line.to_dict(orient="list"),
             "requirements": [_check(c) for c in result.extrapolation.checks],
             "runs_for": _runs_for(result.extrapolation.runs_for)},
-        "matrix": matrix_json(result.matrix),
+        "matrix": matrix_json(result.matrix, result.matrix_decision),
     }
     return _clean(doc)
 

@@ -689,7 +689,7 @@ def matrix_decision_stage(prep: Prepared, mx: MatrixResult | None, parts: Sequen
     sens = sensitivity_stage(pprep, mc)
     dec = decision_stage(pprep, sens, gum_stage(pprep, mc), ("requirements",))
     a = dec.allocation
-    checks = None
+    checks, derived_met = None, (0, 0)
     if a is not None and not a.message:
         again = run_matrix(st, prep.setpoint.nominal, prep.settings.seed, workers=workers,
                            scheduler=scheduler, scale=tuple(float(v) for v in a.scale),
@@ -697,8 +697,10 @@ def matrix_decision_stage(prep: Prepared, mx: MatrixResult | None, parts: Sequen
                                lambda done, total: progress("matrix at the allocation", done,
                                                             total)))
         checks = checks_table(again)
+        limited = [d for d in again.derived if d.limit is not None]
+        derived_met = (sum(bool(d.met) for d in limited), len(limited))
     return WorstPointDecision(point=k, label=point.label, limits=dec.input_limits,
-                              allocation=a, checks=checks)
+                              allocation=a, checks=checks, derived_met=derived_met)
 
 
 def run(study: Study, trials: int | None = None, seed: int | None = None, *,

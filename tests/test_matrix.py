@@ -212,13 +212,20 @@ standard_uncertainty = "0.02 deg"
     st = parse_study(tomllib.loads(text))
     nominal = prepare(st).setpoint.nominal
     runs = [run_matrix(st, nominal, 5, workers=w) for w in (0, 1, 2, 4)]
+    # and on a scheduler that was already running (--scheduler ADDRESS)
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, dashboard_address=None) as cluster:
+        on_scheduler = run_matrix(st, nominal, 5, scheduler=cluster.scheduler_address)
+    assert on_scheduler.scheduler.startswith("scheduler ") and on_scheduler.workers == 2
+    runs.append(on_scheduler)
     first = runs[0]
     for other in runs[1:]:
         for a, b in zip(first.points, other.points):
             assert a.statistics.equals(b.statistics)
             assert a.samples["lift_coefficient"].tobytes() == b.samples["lift_coefficient"].tobytes()
         assert first.derived_table.equals(other.derived_table)
-    assert [r.workers for r in runs] == [0, 1, 2, 4]
+    assert [r.workers for r in runs] == [0, 1, 2, 4, 2]
 
 
 @pytest.mark.parametrize("old, new, key", [
@@ -270,3 +277,96 @@ verify_trials = 40000
     assert a is not None and not a.message and a.cost == 1000.0
     assert a.grades == {"upflow": "recalibrated"}
     assert wd.met_everywhere
+
+
+def test_correlated_shared_errors_enter_the_increment_budget_with_their_cross_term():
+    # Two systematic axial-force errors in % of reading, correlated r = 0.6: the reduced drag of
+    # a point moves by (e1 + e2) A cos(alpha) / (q S) with A = (CD cos a - CL sin a) q S (Anderson
+    # eqs. 1.1-1.2), so the increment of two points of equal CL moves by (e1 + e2) dCD cos^2 a,
+    # u = dCD cos^2 a sqrt(u1^2 + u2^2 + 2 r u1 u2) (JCGM 100 5.2.2).
+    text = INCREMENT.replace('''[[uncertain]]
+name = "upflow"
+perturbs = "flow_angularity"
+standard_uncertainty = "0.02 deg"''', '''[[uncertain]]
+name = "axial A"
+perturbs = "axial_force_indication"
+standard_uncertainty = "0.5 %"
+[[uncertain]]
+name = "axial B"
+perturbs = "axial_force_indication"
+standard_uncertainty = "0.3 %"
+[correlations]
+pairs = [["axial A", "axial B", 0.6]]''')
+    st, mx = _matrix(text)
+    d = mx.derived[0]
+    c2 = math.cos(math.radians(2.0)) ** 2
+    expected = 0.002 * c2 * math.sqrt(0.005 ** 2 + 0.003 ** 2 + 2 * 0.6 * 0.005 * 0.003)
+    assert d.u_lpu == pytest.approx(expected, rel=0.01)
+    assert d.u == pytest.approx(expected, rel=0.03)
+
+
+@pytest.mark.parametrize("old, new, key", [
+    # a shared error correlated with a per-point one has no single correlation over the points
+    ('standard_uncertainty = "0.02 deg"', 'standard_uncertainty = "0.02 deg"\n[[uncertain]]\n'
+     'name = "attitude"\nperturbs = "attitude_indication"\nstandard_uncertainty = "0.01 deg"\n'
+     'component = "random"\n[correlations]\npairs = [["upflow", "attitude", 0.5]]',
+     "correlations"),
+    # the points of a list give their own coefficients
+    ('combine = "list"', 'combine = "list"\ncoefficients = "polars.csv"', "matrix.coefficients"),
+])
+def test_matrix_combinations_that_mean_nothing_are_refused(old, new, key):
+    with pytest.raises(StudyError) as info:
+        parse_study(tomllib.loads(INCREMENT.replace(old, new, 1)))
+    assert info.value.key == key
+
+
+def test_holding_what_an_axis_moves_is_refused():
+    text = BASE + """
+[matrix]
+hold = ["mach"]
+[matrix.axes]
+mach = [0.74, 0.78]
+[[uncertain]]
+name = "upflow"
+perturbs = "flow_angularity"
+standard_uncertainty = "0.02 deg"
+"""
+    with pytest.raises(StudyError) as info:
+        parse_study(tomllib.loads(text))
+    assert info.value.key == "matrix.hold[0]"
+
+
+@pytest.mark.slow
+def test_polar_matrix_demo_end_to_end(tmp_path):
+    # The demo matrix through the CLI, in process: every point reported, the increment's
+    # nominal at each condition the difference of the two configurations' drag in the demo's
+    # coefficient file (read here with the csv module), and the hardest drag point at the
+    # largest lift of the matrix, since an angle error moves the drag by about CL d_alpha
+    # (Anderson eqs. 1.1-1.2).
+    import csv
+    import json
+    from pathlib import Path
+
+    from simunc.cli import main
+
+    root = Path(__file__).resolve().parents[1]
+    out = tmp_path / "rep"
+    assert main(["run", str(root / "studies" / "corvel_polar_matrix.toml"), "--trials", "4000",
+                 "--workers", "0", "--out", str(out)]) == 0
+    assert (out / "matrix_uncertainty.png").stat().st_size > 10_000
+    doc = json.loads((out / "results.json").read_text())["matrix"]
+    assert len(doc["points"]) == 72 and not doc["failed"]
+    rows = list(csv.reader(line for line in (root / "studies" / "corvel_polars.csv").read_text()
+                           .splitlines() if not line.startswith("#")))[1:]
+    drag = {(float(r[0]), float(r[1]), r[2]): float(r[4]) for r in rows}
+    lift = {(float(r[0]), float(r[1]), r[2]): float(r[3]) for r in rows}
+    for d in doc["derived"]:
+        if d["kind"] == "increment":
+            mach = float(d["at"].split("mach=")[1].split(",")[0])
+            alpha = float(d["at"].split("angle_of_attack=")[1].split(" deg")[0])
+            assert d["nominal"] == pytest.approx(drag[(mach, alpha, "nacelles")]
+                                                 - drag[(mach, alpha, "clean")], abs=1e-12)
+    worst = next(w for w in doc["worst"] if "drag" in w["requirement"])
+    p = doc["points"][worst["worst_point"] - 1]
+    key = (p["mach"], round(p["angle_of_attack [deg]"], 9), p["configuration"])
+    assert lift[key] == pytest.approx(max(lift.values()), abs=0.02)

@@ -177,6 +177,8 @@ class DerivedResult:
     key: str
     name: str
     kind: str
+    output: str
+    axis: str
     at: str
     points: tuple[int, ...]
     nominal: float
@@ -197,7 +199,11 @@ def _others(point, axis: str) -> tuple:
 
 def _budget(study: Study, results: list[PointResult], members: list[int], a: np.ndarray,
             output: str) -> tuple[float, dict]:
-    """u and budget of sum_i a_i y_i (module docstring)."""
+    """u and budget of sum_i a_i y_i (module docstring); correlated inputs (of one kind: the
+    readers refuse a systematic one correlated with a random or drifting one) add their cross
+    terms r_jl (sum_i v_ij)(sum_i v_il) when systematic, r_jl sum_i v_ij v_il when random, with
+    v_ij = a_i w_ij.  The budget gives each input its own term over the total variance (cross
+    terms are in the total only)."""
     m = study.matrix
     assert m is not None
     inputs = {spec.name: spec.component for spec in study.inputs}
@@ -206,19 +212,33 @@ def _budget(study: Study, results: list[PointResult], members: list[int], a: np.
                   axis=1).fillna(0.0)
     pos = np.array([m.points[i].position for i in members])
     run = np.array([m.points[i].run for i in members])
+    names = list(w.index)
+    v = w.to_numpy() * a[None, :]          # inputs by points
     var = {}
-    for name, row in w.iterrows():
-        wi = a * row.to_numpy()
+    for j, name in enumerate(names):
         if name in drift:
             lag = np.abs(pos[:, None] - pos[None, :])
             corr = np.where(run[:, None] == run[None, :], drift[name] ** lag, 0.0)
-            var[name] = float(wi @ corr @ wi)
+            var[name] = float(v[j] @ corr @ v[j])
         elif inputs.get(name, "systematic") == "systematic":
-            var[name] = float(wi.sum() ** 2)
+            var[name] = float(v[j].sum() ** 2)
         else:
-            var[name] = float((wi ** 2).sum())
+            var[name] = float((v[j] ** 2).sum())
     total = sum(var.values())
-    return math.sqrt(total), {k: v / total for k, v in var.items() if total > 0}
+    c = study.correlation
+    if c is not None:
+        idx = {n: k for k, n in enumerate(c.names)}
+        for j, nj in enumerate(names):
+            for k in range(j + 1, len(names)):
+                r = float(c.matrix[idx[nj], idx[names[k]]]) if nj in idx and names[k] in idx \
+                    else 0.0
+                if r == 0.0:
+                    continue
+                shared = inputs.get(nj, "systematic") == "systematic"
+                cross = (v[j].sum() * v[k].sum()) if shared else float(v[j] @ v[k])
+                total += 2.0 * r * float(cross)
+    total = max(total, 0.0)
+    return math.sqrt(total), {k: val / total for k, val in var.items() if total > 0}
 
 
 def derive(study: Study, results: list[PointResult]) -> list[DerivedResult]:
@@ -245,7 +265,8 @@ def derive(study: Study, results: list[PointResult]) -> list[DerivedResult]:
             u_lpu, budget = _budget(study, results, members, a, d.output)
             U = 0.5 * (hi - lo)
             out.append(DerivedResult(
-                key=d.key, name=d.name, kind=d.kind, at=at, points=tuple(members),
+                key=d.key, name=d.name, kind=d.kind, output=d.output, axis=d.axis, at=at,
+                points=tuple(members),
                 nominal=nominal, mean=float(np.mean(y)), u=float(np.std(y, ddof=1)), low=lo,
                 high=hi, U=U, u_lpu=u_lpu, budget=budget, limit=d.limit,
                 met=None if d.limit is None else bool(U <= d.limit)))

@@ -129,14 +129,27 @@ def derived_table(derived) -> pd.DataFrame:
     rows = []
     for d in derived:
         top = sorted(d.budget.items(), key=lambda kv: -kv[1])[:2]
+        factor, unit = _shown(d)
         rows.append({"quantity": d.name, "kind": d.kind, "at": d.at, "nominal": d.nominal,
                      "mean": d.mean, "u": d.u, "u_lpu": d.u_lpu, "low": d.low, "high": d.high,
-                     "U": d.U, "limit": d.limit, "met": d.met,
+                     "U": d.U, "limit": d.limit, "met": d.met, "unit_shown": unit,
+                     "nominal_shown": d.nominal * factor, "U_shown": d.U * factor,
+                     "limit_shown": None if d.limit is None else d.limit * factor,
                      "leading_inputs": "; ".join(f"{k} ({100 * v:.0f} %)" for k, v in top
                                                  if v > 0.0)})
     return pd.DataFrame(rows, columns=["quantity", "kind", "at", "nominal", "mean", "u",
                                        "u_lpu", "low", "high", "U", "limit", "met",
+                                       "unit_shown", "nominal_shown", "U_shown", "limit_shown",
                                        "leading_inputs"])
+
+
+def _shown(d) -> tuple[float, str]:
+    """Factor and unit in which a derived quantity is shown: drag counts for a drag increment,
+    per degree for a slope over the angle of attack, per bar over the stagnation pressure."""
+    if d.kind == "increment":
+        return (1e4, "counts") if d.output == "drag_coefficient" else (1.0, "1")
+    return {"angle_of_attack": (math.pi / 180.0, "per deg"),
+            "stagnation_pressure": (1e5, "per bar")}.get(d.axis, (1.0, "per unit Mach number"))
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -151,6 +164,9 @@ class WorstPointDecision:
     limits: pd.DataFrame | None
     allocation: Any
     checks: pd.DataFrame | None
+    #: With the allocated tolerances: the increments and slopes with a limit that meet it,
+    #: and how many have one.
+    derived_met: tuple[int, int] = (0, 0)
 
     @property
     def met_everywhere(self) -> bool | None:
@@ -193,20 +209,30 @@ def summary_table(study: Study, results: list[PointResult]) -> pd.DataFrame:
     rows = []
     for r in results:
         pt = m.points[r.index]
-        row: dict = {"point": r.index + 1, **{k: v for k, v in pt.values.items()}}
+        row: dict = {"point": r.index + 1}
+        for k, v in pt.values.items():  # in the units test plans use
+            if k == "angle_of_attack":
+                row["angle_of_attack [deg]"] = math.degrees(v)
+            elif k == "stagnation_pressure":
+                row["stagnation_pressure [bar]"] = v / 1e5
+            else:
+                row[k] = v
         if not r.ok:
             row["error"] = r.error
             rows.append(row)
             continue
         sp = r.setpoint
-        row.update({k: sp[k] for k in ("stagnation_pressure", "mach_model", "speed",
-                                       "reynolds_ratio") if k in sp})
+        if "stagnation_pressure" in sp:
+            row["p0 [bar]"] = sp["stagnation_pressure"] / 1e5
+        row.update({k: sp[k] for k in ("mach_model", "speed", "reynolds_ratio") if k in sp})
         row["feasible"] = r.feasible
         row["P_in_band"] = r.conformity
         assert r.statistics is not None
         for o in study.coefficient_outputs:
             if o in r.statistics.index:
                 row[f"U_{o}"] = float(r.statistics.loc[o, "U"])
+                if o == "drag_coefficient":
+                    row["U_drag_coefficient [counts]"] = row[f"U_{o}"] / 1e-4
         row["requirements_met"] = sum(c.met for c in r.checks)
         row["requirements"] = len(r.checks)
         row["error"] = ""

@@ -59,14 +59,16 @@ def _first_to_tighten(result, sp) -> list[str]:
         return []
     name = t[t["controllable"]].index[0]
     line = [f"Input to control more tightly first: {lit(name)} ({lit(t.loc[name, 'perturbs'])})."]
+    scope = " (the study's own point)" if result.matrix is not None else ""
     if result.requirement_checks is not None:
         bad = [c.key for c in result.requirement_checks if not c.met]
-        line.append("Requirements at the written tolerances: " + (
+        line.append(f"Requirements at the written tolerances{scope}: " + (
             "all met." if not bad else f"not met: {lit(', '.join(bad))}."))
     if result.allocation is not None:
         a = result.allocation
-        line.append(f"No allocation meets the requirements: {lit(a.message)}." if a.message else
-                    f"Allocation meeting every requirement: cost {fmt(a.cost)}; fresh Monte Carlo "
+        line.append(f"No allocation meets the requirements{scope}: {lit(a.message)}."
+                    if a.message else
+                    f"Allocation meeting every requirement{scope}: cost {fmt(a.cost)}; fresh Monte Carlo "
                     f"check {'passed' if a.verified else 'FAILED'} (see the requirements section).")
     return line
 

@@ -344,22 +344,23 @@ def matrix_plot(result) -> bytes:
     axis = m.run_axis
     t = mx.table[mx.table["error"] == ""] if "error" in mx.table else mx.table
     colours = plt.get_cmap("tab10")
+    column = {"angle_of_attack": "angle_of_attack [deg]",
+              "stagnation_pressure": "stagnation_pressure [bar]"}
     for ax, out in zip(axes[0], outs):
         factor = 1e4 if out == "drag_coefficient" else 1.0
-        others = [a for a in m.axes if a != axis]
+        others = [column.get(a, a) for a in m.axes if a != axis]
         groups = t.groupby(others, sort=False) if others else [((), t)]
         for i, (key, g) in enumerate(groups):
-            x = g[axis].to_numpy()
-            x = np.degrees(x.astype(float)) if axis == "angle_of_attack" else x
-            label = ", ".join(str(plain(f"{v:g}" if isinstance(v, float) else v))
-                              for v in (key if isinstance(key, tuple) else (key,)))
+            x = g[column.get(axis, axis)].to_numpy()
+            label = ", ".join(f"{a}={plain(f'{v:g}' if isinstance(v, float) else v)}"
+                              for a, v in zip(others, key if isinstance(key, tuple) else (key,)))
             ax.plot(x, g[f"U_{out}"] * factor, marker="o", ms=3, lw=1.0,
                     color=colours(i % 10), label=label or "all points")
         limit = st.limit_of_output(out)
         if limit:
             ax.axhline(limit * factor, color="black", lw=0.9, ls="--", label="requirement")
         ax.set_xlabel({"angle_of_attack": "angle of attack [deg]", "mach": "Mach number",
-                       "stagnation_pressure": "stagnation pressure [Pa]"}.get(axis, axis))
+                       "stagnation_pressure": "stagnation pressure [bar]"}.get(axis, axis))
         p = f"{100 * result.coverage_probability:g} %"
         ax.set_ylabel(f"U ({p}) of CD [counts]" if factor != 1.0 else f"U ({p}) of CL")
         ax.set_ylim(bottom=0.0)

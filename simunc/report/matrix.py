@@ -2,11 +2,8 @@
 
 from __future__ import annotations
 
-import math
-
 from simunc.report.blocks import Block, table
 from simunc.report.text import lit, two_digits
-from simunc.units import COUNT
 
 
 def summary_lines(result) -> list[str]:
@@ -36,29 +33,23 @@ def summary_lines(result) -> list[str]:
                          f"the requirements ({lit(a.message)}).")
         else:
             met = int(wd.checks["all_met"].sum()) if wd.checks is not None else 0
+            dm, dn = wd.derived_met
             lines.append(f"Allocation at the hardest matrix point {wd.point + 1} "
                          f"({lit(wd.label)}): cost {a.cost:.6g}; with it every requirement "
                          f"holds at {met} of {len(wd.checks) if wd.checks is not None else 0} "
-                         "points.")
+                         "points" + (f", and {dm} of {dn} increments and slopes stay within "
+                                     "their limits" if dn else "") + ".")
     d = mx.derived_table
     for name, g in d.groupby("quantity", sort=False):
         limited = g[g["limit"].notna()]
         worst = g.loc[g["U"].idxmax()]
-        text = f"{lit(name)}: U up to {_u(worst['U'], name, result)} ({lit(worst['at'])})"
+        text = (f"{lit(name)}: U up to {two_digits(worst['U_shown'])} {worst['unit_shown']} "
+                f"({lit(worst['at'])})")
         if len(limited):
             met = int(limited["met"].astype(bool).sum())
             text += f"; within its limit at {met} of {len(limited)}"
         lines.append(text + f"; led by {lit(worst['leading_inputs'])}.")
     return lines
-
-
-def _u(U: float, name: str, result) -> str:
-    d = next((x for x in result.study.matrix.derived if x.name == name), None)
-    if d is not None and d.kind == "increment" and d.output == "drag_coefficient":
-        return f"{two_digits(U / COUNT)} counts"
-    if d is not None and d.kind == "slope" and d.axis == "angle_of_attack":
-        return f"{two_digits(U * math.pi / 180.0)} per deg"
-    return two_digits(U)
 
 
 def matrix_blocks(result) -> list[Block]:
@@ -80,9 +71,15 @@ def matrix_blocks(result) -> list[Block]:
                        "hardest to meet):"))
         b.append(Block("table", table(mx.worst)))
     if len(mx.derived_table):
-        b.append(Block("paragraph", "Increments and slopes (slopes per radian of angle of "
-                       "attack, per unit Mach number or per pascal):"))
-        b.append(Block("table", table(mx.derived_table)))
+        b.append(Block("paragraph", "Increments and slopes, in the units shown (drag "
+                       "increments in counts, slopes per degree of angle of attack); u and u "
+                       "(LPU) in SI:"))
+        dt = mx.derived_table
+        b.append(Block("table", table(dt[["quantity", "at", "unit_shown", "nominal_shown",
+                                          "U_shown", "limit_shown", "met", "u", "u_lpu",
+                                          "leading_inputs"]].rename(columns={
+            "unit_shown": "unit", "nominal_shown": "nominal", "U_shown": f"U ({p})",
+            "limit_shown": "limit of U", "u_lpu": "u (LPU)"}))))
     wd = result.matrix_decision
     if wd is not None:
         b.append(Block("paragraph", f"Requirements at the hardest point, {wd.point + 1} "
@@ -99,7 +96,7 @@ def matrix_blocks(result) -> list[Block]:
                            "the matrix run again with the allocated tolerances (the same draws) "
                            "gives at each point:"))
             if a.table is not None:
-                b.append(Block("table", table(a.table.reset_index())))
+                b.append(Block("table", table(a.table)))
             if wd.checks is not None:
                 b.append(Block("table", table(wd.checks)))
     if len(mx.leaders):
@@ -109,8 +106,12 @@ def matrix_blocks(result) -> list[Block]:
     b.append(Block("figure", "matrix_uncertainty.png", caption=(
         f"U ({p}) of the drag (counts) and lift coefficients at every point of the matrix, one "
         "line per run, with the requirements.")))
+    held = result.study.matrix.hold
     b.append(Block("paragraph", "The points (set point, probability that every matched group "
-                   "is in its band, U of each coefficient, requirements met):"))
+                   "is in its band, U of each coefficient, requirements met)" + (
+                       f". With {lit(', '.join(held))} held at the base set point, a point "
+                       "away from the base condition cannot match every group: 'feasible: no' "
+                       "and a low P(in band) are expected there." if held else ":")))
     b.append(Block("table", table(mx.table)))
     return b
 
@@ -122,6 +123,7 @@ def matrix_json(mx, wd=None) -> dict | None:
     return {
             "hardest_point": None if wd is None else {
                 "point": wd.point + 1, "label": wd.label,
+                "derived_met_at_allocation": list(wd.derived_met),
                 "input_limits": None if wd.limits is None else
                 wd.limits.reset_index().to_dict(orient="records"),
                 "allocation": None if a is None else {

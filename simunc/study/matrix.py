@@ -132,7 +132,8 @@ def _number(key: str, cell: str) -> float:
 
 def read_matrix(data: Any, *, measurement: Measurement | None, full_scale_given: str,
                 unknowns: tuple[str, ...], input_names: list[str], outputs: set[str],
-                path: str, max_trials: int, random_inputs: tuple[str, ...] = ()) -> Matrix:
+                path: str, max_trials: int, random_inputs: tuple[str, ...] = (),
+                correlation: Any = None) -> Matrix:
     """``[matrix]`` -> :class:`Matrix` (module docstring)."""
     t = Table(data, "matrix", MATRIX_KEYS)
     combine = t.choice("combine", ("product", "list"), default="product")
@@ -179,6 +180,10 @@ def read_matrix(data: Any, *, measurement: Measurement | None, full_scale_given:
                 coef.update(match[0])
             per_point.append((combo, coef))
     else:
+        if t.has("coefficients"):
+            raise StudyError(t.key("coefficients"), t.data["coefficients"], "no coefficient file "
+                             "with combine = \"list\" (each [[matrix.point]] gives its own "
+                             "coefficients)")
         if t.has("axes"):
             raise StudyError("matrix.axes", "[matrix.axes]", "no axes with combine = \"list\" "
                              "(each [[matrix.point]] gives its own values)")
@@ -233,6 +238,10 @@ def read_matrix(data: Any, *, measurement: Measurement | None, full_scale_given:
             raise StudyError(f"{t.key('hold')}[{j}]", repr(plain(h, GIVEN_LIMIT)),
                              "a set-point variable the study solves: one of "
                              + ", ".join(k for k in HOLDABLE if k in unknowns))
+    for j, h in enumerate(hold):
+        if h in axes or (h == "mach" and "mach" in axes):
+            raise StudyError(f"{t.key('hold')}[{j}]", repr(h), "a variable no axis sets (the "
+                             f"{h} axis moves it from point to point)")
     if "stagnation_pressure" in axes and "stagnation_pressure" not in unknowns:
         raise StudyError("matrix.axes.stagnation_pressure", "a stagnation-pressure axis",
                          "a study that solves the stagnation pressure (match.solve_for)")
@@ -256,6 +265,20 @@ def read_matrix(data: Any, *, measurement: Measurement | None, full_scale_given:
         rho = dt.number("correlation", low=0.0, high=1.0, low_open=True, high_open=True,
                         what="a correlation between successive points above 0 and below 1")
         drift.append(Drift(input=name, correlation=rho))
+    if correlation is not None:
+        kinds = {n: ("drift" if any(d.input == n for d in drift) else
+                     "random" if n in random_inputs else "systematic") for n in input_names}
+        names = list(correlation.names)
+        for i1 in range(len(names)):
+            for i2 in range(i1 + 1, len(names)):
+                r = float(correlation.matrix[i1, i2])
+                ka, kb = kinds.get(names[i1]), kinds.get(names[i2])
+                if r != 0.0 and (ka != kb or ka == "drift"):
+                    raise StudyError("correlations", f"{names[i1]!r} ({ka}) with {names[i2]!r} "
+                                     f"({kb})", "correlations between inputs of the same kind in "
+                                     "a matrix study (both systematic or both random, none "
+                                     "drifting): a shared error and a per-point one have no "
+                                     "single correlation over the points")
     trials = t.integer("trials", min(20_000, max_trials), 1000)
     return Matrix(axes=axes, run_axis=run_axis, points=points, hold=hold, derived=derived,
                   drift=tuple(drift), trials=trials)

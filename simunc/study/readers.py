@@ -522,7 +522,8 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
                          unknowns=unknowns, input_names=[i.name for i in inputs],
                          outputs=outputs, path=path, max_trials=run.trials or 200_000,
                          random_inputs=tuple(i.name for i in inputs
-                                             if i.component == "random")) \
+                                             if i.component == "random"),
+                         correlation=correlation) \
         if "matrix" in data else None
     return Study(
         title=root.text("title", "untitled study"),

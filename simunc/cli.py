@@ -72,6 +72,8 @@ def _parser() -> argparse.ArgumentParser:
         r.add_argument("--samples", choices=("csv", "parquet"), help="also write the trials")
         r.add_argument("--overwrite", action="store_true",
                        help="replace files under the report's names that simunc did not write")
+        r.add_argument("--quiet", action="store_true",
+                       help="no progress display on standard error")
         r.add_argument("--workers", type=_positive_int(0), help="test matrix: local worker "
                        "processes (default: one per core; 0: run the points in this process)")
         r.add_argument("--scheduler", metavar="ADDRESS", help="test matrix: run the points on "
@@ -180,7 +182,7 @@ def _run_locked(args, study) -> int:
     if args.samples:
         from simunc.pipeline import require_samples
         require_samples(study, args.trials)  # before anything runs
-    progress = _progress()
+    progress = None if args.quiet else _progress()
     try:
         result = run(study, trials=args.trials, seed=args.seed, parts=parts, extra_sweeps=extra,
                      progress=progress, workers=args.workers, scheduler=args.scheduler)

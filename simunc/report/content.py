@@ -11,7 +11,7 @@ from simunc import __version__
 from simunc.report import coefficients, decisions, matrix
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
-from simunc.report.text import lit
+from simunc.report.text import lit, two_digits
 from simunc.study.catalogue import describe_output
 
 SAFETY = [
@@ -73,6 +73,51 @@ def _first_to_tighten(result, sp) -> list[str]:
     return line
 
 
+def _achieved(c, study) -> str:
+    """A requirement's achieved value as the test plan writes it: U in counts for the drag, in
+    % where the limit is a %, two significant digits (JCGM 100 7.2.6), a probability in %."""
+    if c.kind != "expanded_uncertainty":
+        return f"P = {100 * c.value:.1f} %"
+    r = next((r for r in study.requirements if r.key == c.key), None)
+    if r is not None and r.relative and c.limit > 0:
+        return f"U = {two_digits(100 * c.value * r.limit / c.limit)} %"
+    if c.output == "drag_coefficient":
+        return f"U = {two_digits(c.value / 1e-4)} counts"
+    unit = describe_output(c.output)[0] if c.output else ""
+    return f"U = {two_digits(c.value)}" + (f" {unit}" if unit and unit != "1" else "")
+
+
+def verdict_lines(result) -> list[str]:
+    """The first screen: is the set point reachable and matched, how likely the match holds,
+    each requirement as written with what it achieves, what to tighten first and what it buys,
+    the allocation and its cost."""
+    sp, st = result.setpoint, result.study
+    lines = [("**Set point reachable and matched.**" if sp.feasible else
+              "**Set point NOT reachable with every group matched**: the nearest achievable "
+              "point is analysed (see the split-test plan and the facility limits)."),
+             f"Probability that every matched group stays in its band: "
+             f"**{100 * result.conformity['all']:.1f} %** ({result.trials} trials)."]
+    if result.requirement_checks is not None:
+        met = sum(c.met for c in result.requirement_checks)
+        lines.append(f"Requirements at the written tolerances: **{met} of "
+                     f"{len(result.requirement_checks)} met**.")
+        for c in result.requirement_checks:
+            lines.append(f"{'met' if c.met else '**NOT met**'}: {lit(c.text)} — achieved "
+                         f"{_achieved(c, st)}.")
+    t = result.tightening
+    if sp.feasible and t is not None and len(t) and t["controllable"].any():
+        name = t[t["controllable"]].index[0]
+        lines.append(f"Tighten first: **{lit(name)}** (halving its tolerance cuts U by "
+                     f"{two_digits(float(t.loc[name, 'gain_bands']))} of a band half-width or "
+                     "requirement limit).")
+    a = result.allocation
+    if a is not None:
+        lines.append(f"No allocation meets the requirements: {lit(a.message)}." if a.message
+                     else f"Least-cost allocation: cost **{fmt(a.cost)}**, fresh Monte Carlo "
+                     f"check {'passed' if a.verified else 'FAILED'}.")
+    return lines
+
+
 def build(result) -> list[Block]:
     st, sp = result.study, result.setpoint
     fs, fac = st.full_scale, st.facility
@@ -81,6 +126,7 @@ def build(result) -> list[Block]:
     if st.description:
         b.append(Block("paragraph", lit(st.description)))
 
+    b += [Block("heading", "Verdict"), Block("bullets", verdict_lines(result))]
     verdict = "achievable and matched" if sp.feasible else "not every group matched (see below)"
     conf = result.conformity
     solved = ", ".join(k.replace("_", " ") for k in sp.solve_for) or "nothing"

@@ -18,9 +18,16 @@ body{font-family:system-ui,-apple-system,Segoe UI,sans-serif;max-width:1000px;ma
 padding:0 1em;color:#222;line-height:1.45}
 h1{border-bottom:2px solid #4a78a8;padding-bottom:.2em}h2{margin-top:1.6em;color:#2c4f73}
 table{border-collapse:collapse;margin:.6em 0;font-size:.9em}
-th,td{border:1px solid #ccc;padding:.25em .6em;text-align:left}th{background:#eef3f8}
+th,td{border:1px solid #ccc;padding:.25em .6em;text-align:right}th{background:#eef3f8}
+td:first-child,th:first-child{text-align:left}
 td{font-variant-numeric:tabular-nums}img{max-width:100%}figcaption{font-size:.85em;color:#555}
+.wide{max-width:100%;overflow-x:auto}nav.toc{font-size:.9em;columns:2;margin:1em 0}
+nav.toc a{display:block}details>summary{cursor:pointer}details>summary h2{display:inline}
 """
+
+#: Sections of the detail kind: folded (collapsible) in the HTML report.
+DETAIL_SECTIONS = ("Uncertain inputs", "Achieved groups", "Dimensional analysis",
+                   "GUM uncertainty framework", "Sensitivity", "Reproducibility")
 
 
 def markdown(blocks: list[Block]) -> str:
@@ -55,9 +62,23 @@ def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
     title = next((unmarked(b.content) for b in blocks if b.kind == "heading"), "simunc report")
     out = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
            f"<title>{html.escape(title)}</title><style>{_CSS}</style></head><body>"]
+    sections = [unmarked(b.content) for b in blocks if b.kind == "heading" and b.level == 2]
+    folded = False
     for b in blocks:
-        if b.kind == "heading":
+        if b.kind == "heading" and b.level == 2:
+            name = unmarked(b.content)
+            anchor = f"s{sections.index(name) + 1}"
+            if folded:
+                out.append("</details>")
+            folded = name.startswith(DETAIL_SECTIONS)
+            head = f'<h2 id="{anchor}">{_inline(b.content)}</h2>'
+            out.append(f"<details><summary>{head}</summary>" if folded else head)
+        elif b.kind == "heading":
             out.append(f"<h{b.level}>{_inline(b.content)}</h{b.level}>")
+            if b.level == 1 and sections:
+                out.append('<nav class="toc">' + "".join(
+                    f'<a href="#s{i}">{html.escape(n)}</a>'
+                    for i, n in enumerate(sections, start=1)) + "</nav>")
         elif b.kind == "paragraph":
             out.append(f"<p>{_inline(str(b.content))}</p>")
         elif b.kind == "bullets":
@@ -66,11 +87,14 @@ def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
             df = cast("pd.DataFrame", b.content)
             cells = df.map(unmarked)
             cells.columns = [unmarked(c) for c in df.columns]
-            out.append(cells.to_html(index=False, border=0, escape=True))
+            out.append('<div class="wide">' + cells.to_html(index=False, border=0, escape=True)
+                       + "</div>")
         elif b.kind == "figure" and b.content in figures:
             data = base64.b64encode(figures[cast(str, b.content)]).decode("ascii")
             out.append(f'<figure><img alt="{html.escape(unmarked(b.caption))}" '
                        f'src="data:image/png;base64,{data}">'
                        f"<figcaption>{_inline(b.caption)}</figcaption></figure>")
+    if folded:
+        out.append("</details>")
     out.append("</body></html>")
     return "\n".join(out) + "\n"

@@ -1,0 +1,61 @@
+"""The report's first screen: the verdict, with every requirement quoted as written.
+
+Check values: a drag count is 0.0001 of CD (the trade's unit; common practice, no source); an
+uncertainty is given to two significant digits (JCGM 100:2008 7.2.6); the statuses are those of
+the run's own requirement checks.  The study is invented (inputs, not check values).
+"""
+
+from __future__ import annotations
+
+import re
+import tomllib
+
+import pytest
+
+from simunc.pipeline import run
+from simunc.report.content import build, verdict_lines
+from simunc.report.render import html_page
+from simunc.report.text import unmarked
+from simunc.study.readers import parse_study
+from tests import test_scale_effect as scale_effect
+
+TEXT = scale_effect.STUDY + """
+[[requirement]]
+output = "drag_coefficient"
+expanded_uncertainty = "2 counts"
+[[requirement]]
+output = "lift_coefficient"
+expanded_uncertainty = "0.00001"
+[design]
+trials = 2000
+verify_trials = 4000
+"""
+
+
+@pytest.fixture(scope="module")
+def result():
+    return run(parse_study(tomllib.loads(TEXT)), trials=4000, parts=("requirements",))
+
+
+def test_verdict_comes_first_and_quotes_every_requirement(result):
+    blocks = build(result)
+    assert [unmarked(b.content) for b in blocks if b.kind == "heading"][1] == "Verdict"
+    lines = [unmarked(x).replace("**", "") for x in verdict_lines(result)]
+    # the study cannot reach the Reynolds number: said first, requirements still judged
+    assert "NOT reachable" in lines[0]
+    checks = result.requirement_checks
+    assert f"{sum(c.met for c in checks)} of {len(checks)} met" in " ".join(lines)
+    for c in checks:
+        line = next(x for x in lines if c.text in x)
+        assert line.startswith("met" if c.met else "NOT met")
+        if c.output == "drag_coefficient":
+            counts = re.search(r"achieved U = ([0-9.]+) counts", line).group(1)
+            assert float(counts) == pytest.approx(c.value / 1e-4, rel=0.05)
+            assert len(counts.replace(".", "").lstrip("0")) == 2  # two significant digits
+
+
+def test_html_has_contents_and_folds_the_details(result):
+    page = html_page(build(result), {})
+    assert '<nav class="toc">' in page and 'href="#s1"' in page
+    assert page.count("<details>") == page.count("</details>") >= 2
+    assert page.index("Verdict") < page.index("<details>")

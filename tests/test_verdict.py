@@ -59,3 +59,19 @@ def test_html_has_contents_and_folds_the_details(result):
     assert '<nav class="toc">' in page and 'href="#s1"' in page
     assert page.count("<details>") == page.count("</details>") >= 2
     assert page.index("Verdict") < page.index("<details>")
+
+
+def test_values_are_rounded_to_their_uncertainty():
+    # JCGM 100:2008 7.2.2 example (from memory of that document): m_s = 100.02147 g with
+    # u_c = 0.35 mg is written 100.02147 g, u = 0.35 mg; and 7.2.6: u to two significant digits.
+    from simunc.report.text import with_uncertainty
+
+    assert with_uncertainty(100.021471, 0.000352) == ("100.02147", "0.00035")
+    assert with_uncertainty(0.98765, 0.0123) == ("0.988", "0.012")
+    assert with_uncertainty(12345.6, 78.9) == ("12346", "79")
+
+
+def test_key_outputs_come_before_the_full_list(result):
+    heads = [unmarked(b.content) for b in build(result) if b.kind == "heading"]
+    assert heads.index("Key outputs") < heads.index(
+        "Achieved groups and flow quantities (Monte Carlo, JCGM 101)")

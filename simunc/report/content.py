@@ -11,7 +11,7 @@ from simunc import __version__
 from simunc.report import coefficients, decisions, matrix
 from simunc.report.blocks import Block, fmt
 from simunc.report.blocks import table as _table
-from simunc.report.text import lit, two_digits
+from simunc.report.text import lit, two_digits, with_uncertainty
 from simunc.study.catalogue import describe_output
 
 SAFETY = [
@@ -268,6 +268,24 @@ def build(result) -> list[Block]:
                        + "; ".join(corrected) + "."))
 
     p = 100 * result.coverage_probability
+    keys = list(dict.fromkeys([band.output for band in st.bands] + [
+        r.output for r in st.requirements if r.output] + list(st.coefficient_outputs)))
+    keys = [k for k in keys if k in result.statistics.index]
+    if keys:
+        b.append(Block("heading", "Key outputs"))
+        key_rows = []
+        for k in keys:
+            r = result.statistics.loc[k]
+            mean, u = with_uncertainty(float(r["mean"]), float(r["standard_uncertainty"]))
+            low, high = (with_uncertainty(float(r[c]), float(r["standard_uncertainty"]))[0]
+                         for c in ("low", "high"))
+            key_rows.append((describe_output(k)[1], r["unit"], mean, u, f"[{low}, {high}]"))
+        b.append(Block("paragraph", f"The matched groups, the outputs a requirement limits and "
+                       f"the measured coefficients: mean and standard uncertainty u rounded as "
+                       f"JCGM 100 7.2.6 asks (u to two digits), and the {p:g} % coverage "
+                       "interval. Every output is in the next section."))
+        b.append(Block("table", pd.DataFrame(key_rows, columns=[
+            "quantity", "unit", "mean", "u", f"{p:g} % interval"])))
     b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))
     s = result.statistics
     tab = pd.DataFrame({"quantity": [describe_output(k)[1] for k in s.index], "unit": s["unit"],

@@ -44,7 +44,8 @@ def markdown(blocks: list[Block]) -> str:
             df = cast("pd.DataFrame", b.content)
             cells = df.map(lambda v: md_inline(unmarked(v)))
             cells.columns = [md_inline(unmarked(c)) for c in df.columns]
-            out.append(cells.to_markdown(index=False))
+            # numbers as formatted (a rounded "1.0000" stays as written)
+            out.append(cells.to_markdown(index=False, disable_numparse=True))
         elif b.kind == "figure":
             out.append(f"![{md(b.caption)}]({b.content})\n\n*{md(b.caption)}*")
     return "\n\n".join(out) + "\n"

@@ -82,3 +82,22 @@ def two_digits(x: float) -> str:
     ('3.0', '4.4', '12', '0.00044')
     """
     return f"{float(x):#.2g}".rstrip(".")
+
+
+def with_uncertainty(value: float, u: float) -> tuple[str, str]:
+    """A value rounded to the last digit of its uncertainty, the uncertainty to two significant
+    digits (JCGM 100:2008 7.2.6).
+
+    >>> with_uncertainty(1.000012, 0.00642)
+    ('1.0000', '0.0064')
+    >>> with_uncertainty(7.46e5, 1234.0)
+    ('746000', '1200')
+    """
+    import math
+
+    if not (math.isfinite(u) and u > 0.0) or not math.isfinite(value):
+        return f"{value:.6g}", "0" if u == 0.0 else f"{u:.2g}"
+    exponent = math.floor(math.log10(u)) - 1   # the place of u's second digit
+    decimals = max(-exponent, 0)
+    step = 10.0 ** exponent
+    return (f"{round(value / step) * step:.{decimals}f}", f"{round(u / step) * step:.{decimals}f}")

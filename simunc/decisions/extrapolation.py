@@ -178,12 +178,13 @@ class _Simulator:
         return cd
 
 
-def _predict(prep, cd: np.ndarray, re: np.ndarray, mach: float) -> np.ndarray:
+def _predict(prep, cd: np.ndarray, re: np.ndarray, mach: float,
+             at: float | None = None) -> np.ndarray:
     """Each trial's extrapolated drag: the runs' drag ``cd`` (trials by runs) fitted against the
     law's regressor at the runs' planned Reynolds numbers ``re`` (log10 Re where the law is flat
-    there) and read at the stated full-scale Reynolds number."""
+    there) and read at the stated full-scale Reynolds number (or at ``at``)."""
     se, sp = prep.study.measurement.scale_effect, prep.setpoint
-    re_full = float(sp.outputs["reynolds_full_scale"])
+    re_full = float(sp.outputs["reynolds_full_scale"]) if at is None else at
     x, x_full = regressor(se, re, mach), regressor(se, re_full, float(sp.outputs["mach_full_scale"])
                                                   if "mach_full_scale" in sp.outputs else mach)
     if np.ptp(x) <= 1e-12 * max(float(np.max(np.abs(x))), 1e-300):
@@ -222,7 +223,7 @@ def extrapolate(prep, plan, *, trials: int = EXTRAPOLATION_TRIALS) -> Extrapolat
     re_full = float(prep.setpoint.outputs["reynolds_full_scale"])
     grid = np.geomspace(float(re_nominal.min()), re_full, LINE_POINTS)
     mean_cd = y_cd.mean(axis=0)[None, :]  # the fit is linear in the data: the mean fit
-    curve = np.array([float(_fit_at(prep, mean_cd, re_nominal, mach, g)[0]) for g in grid])
+    curve = np.array([float(_predict(prep, mean_cd, re_nominal, mach, at=g)[0]) for g in grid])
     checks = tuple(_check(prep, r, err, trials) for r in st.plan_requirements)
     return Extrapolation(
         law=_law(m.scale_effect), runs=pd.DataFrame(rows), reynolds_full_scale=re_full,
@@ -239,12 +240,6 @@ def extrapolate(prep, plan, *, trials: int = EXTRAPOLATION_TRIALS) -> Extrapolat
 def _law(se) -> str:
     return {"friction_line": f"friction line {se.line}", "table": "the table's C(Re)",
             "sensitivity": "log10 Re"}[se.method]
-
-
-def _fit_at(prep, cd: np.ndarray, re: np.ndarray, mach: float, at: float) -> np.ndarray:
-    """The fit of :func:`_predict` read at the Reynolds number ``at`` instead of full scale's."""
-    outputs = dict(prep.setpoint.outputs, reynolds_full_scale=at)
-    return _predict(replace(prep, setpoint=replace(prep.setpoint, outputs=outputs)), cd, re, mach)
 
 
 def _check(prep, r, err: np.ndarray, trials: int) -> Check:

@@ -36,7 +36,7 @@ from simunc.matrix.draws import point_uniforms
 from simunc.matrix.points import point_study
 from simunc.similitude.prepared import prepare
 from simunc.similitude.setpoint import SetPoint, solve
-from simunc.study.schema import MatrixDerived, Study
+from simunc.study.schema import MatrixDerived, Study, axis_values_text
 from simunc.uncertainty.lpu import sensitivity_coefficients
 from simunc.uncertainty.sampling import map_to_inputs
 from simunc.uncertainty.statistics import symmetric_interval
@@ -252,7 +252,7 @@ def derive(study: Study, results: list[PointResult]) -> list[DerivedResult]:
         for pt in m.points:
             groups.setdefault(_others(pt, d.axis), []).append(pt.index)
         for others, members in groups.items():
-            at = ", ".join(f"{k}={_show(k, v)}" for k, v in others) or "all points"
+            at = axis_values_text(others) or "all points"
             if not all(results[i].ok and d.output in results[i].samples for i in members):
                 continue
             members, a = _weights(d, m.points, members)
@@ -291,10 +291,3 @@ def _equal(a, b) -> bool:
         return a == b
     return math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-12)
 
-
-def _show(axis: str, v) -> str:
-    if axis == "angle_of_attack":
-        return f"{math.degrees(v):.4g} deg"
-    if axis == "stagnation_pressure":
-        return f"{v / 1e5:.4g} bar"
-    return v if isinstance(v, str) else f"{v:.4g}"

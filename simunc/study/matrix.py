@@ -25,6 +25,7 @@ from simunc.study.schema import (
     MatrixDerived,
     MatrixPoint,
     Measurement,
+    axis_values_text,
 )
 from simunc.study.table import Table
 from simunc.units import parse
@@ -175,7 +176,7 @@ def read_matrix(data: Any, *, measurement: Measurement | None, full_scale_given:
                 match = [c for v, c in rows if all(ax in v and _same(v[ax], combo[ax])
                                                    for ax in axes)]
                 if not match:
-                    raise StudyError(t.key("coefficients"), f"no row for {_label(combo)}",
+                    raise StudyError(t.key("coefficients"), f"no row for {axis_values_text(combo.items())}",
                                      "a row of the CSV file for every point of the matrix")
                 coef.update(match[0])
             per_point.append((combo, coef))
@@ -282,10 +283,6 @@ def read_matrix(data: Any, *, measurement: Measurement | None, full_scale_given:
     trials = t.integer("trials", min(20_000, max_trials), 1000)
     return Matrix(axes=axes, run_axis=run_axis, points=points, hold=hold, derived=derived,
                   drift=tuple(drift), trials=trials)
-
-
-def _label(combo: dict) -> str:
-    return MatrixPoint(index=0, values=combo, coefficients={}, run=0, position=0).label
 
 
 def _array(t: Table, key: str) -> list:

@@ -599,6 +599,23 @@ MatrixAxis = Literal["mach", "angle_of_attack", "configuration", "stagnation_pre
 MATRIX_AXES: tuple[str, ...] = ("mach", "angle_of_attack", "configuration", "stagnation_pressure")
 
 
+def axis_values_text(items) -> str:
+    """Axis values as the report writes them, angles in degrees and pressures in bar.
+
+    >>> axis_values_text([("mach", 0.78), ("angle_of_attack", math.radians(2.0))])
+    'mach=0.78, angle_of_attack=2 deg'
+    """
+    parts = []
+    for k, v in items:
+        if k == "angle_of_attack":
+            parts.append(f"{k}={math.degrees(v):.4g} deg")
+        elif k == "stagnation_pressure":
+            parts.append(f"{k}={v / 1e5:.4g} bar")
+        else:
+            parts.append(f"{k}={v}" if isinstance(v, str) else f"{k}={v:.4g}")
+    return ", ".join(parts)
+
+
 @dataclass(frozen=True, kw_only=True)
 class MatrixPoint:
     """One point of a test matrix: its axis values (SI; a configuration by its label), the
@@ -613,18 +630,8 @@ class MatrixPoint:
 
     @property
     def label(self) -> str:
-        """``mach=0.78, angle_of_attack=2 deg, ...`` (angles in degrees, pressures in bar)."""
-        parts = []
-        for k, v in self.values.items():
-            if k == "angle_of_attack":
-                parts.append(f"{k}={math.degrees(v):.4g} deg")
-            elif k == "stagnation_pressure":
-                parts.append(f"{k}={v / 1e5:.4g} bar")
-            elif isinstance(v, str):
-                parts.append(f"{k}={v}")
-            else:
-                parts.append(f"{k}={v:.4g}")
-        return ", ".join(parts)
+        """``mach=0.78, angle_of_attack=2 deg, ...`` (:func:`axis_values_text`)."""
+        return axis_values_text(self.values.items())
 
 
 @dataclass(frozen=True, kw_only=True)

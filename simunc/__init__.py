@@ -30,5 +30,8 @@ __all__ = ["__version__", *_API]
 
 def __getattr__(name: str):
     if name in _API:
-        return getattr(import_module(f".{_API[name]}", __name__), name)
+        value = getattr(import_module(f".{_API[name]}", __name__), name)
+        if _API[name] == "pipeline":  # a Result shows its verdict in a notebook
+            import_module(".report.notebook", __name__)
+        return value
     raise AttributeError(f"module 'simunc' has no attribute {name!r}")

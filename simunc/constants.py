@@ -6,3 +6,5 @@ from __future__ import annotations
 STANDARD_GRAVITY = 9.80665
 #: Standard atmospheric pressure [Pa] (ISO 2533; U.S. Standard Atmosphere 1976 sea level).
 STANDARD_PRESSURE = 101_325.0
+#: The Celsius zero on the kelvin scale [K] (SI Brochure, 9th ed., 2.3.1).
+ZERO_CELSIUS = 273.15

@@ -99,6 +99,22 @@ class SimuncError(Exception):
     exit_code = EXIT_INTERNAL
 
 
+_INDEXED = re.compile(r"([A-Za-z_][A-Za-z0-9_]*)\[(\d+)\]")
+
+
+def ordinals(key: str) -> str:
+    """The tables and entries of a study key counted from 1, as a reader counts them in the
+    file (the key itself keeps the 0-based index of a path).
+
+    >>> ordinals("uncertain[0].grades[2].price"), ordinals("facility.mach")
+    (' (uncertain no. 1, grades no. 3)', '')
+    """
+    found = _INDEXED.findall(str(key))
+    if not found:
+        return ""
+    return " (" + ", ".join(f"{name} no. {int(i) + 1}" for name, i in found) + ")"
+
+
 class StudyError(SimuncError, ValueError):
     """A study file that cannot be used as written.
 
@@ -125,7 +141,7 @@ class StudyError(SimuncError, ValueError):
         # around a value (a set point outside the fluid model, why trials are non-physical).
         given_text = (plain(given, 3 * GIVEN_LIMIT) if isinstance(given, str)
                       else plain(toml_text(given), GIVEN_LIMIT))
-        msg = f"study key '{key}': given {given_text}; expected {expected}"
+        msg = f"study key '{key}'{ordinals(key)}: given {given_text}; expected {expected}"
         if hint:
             msg += f" ({hint})"
         super().__init__(plain(msg))

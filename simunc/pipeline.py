@@ -15,7 +15,7 @@ from __future__ import annotations
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
-from typing import Literal, cast
+from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
@@ -46,7 +46,7 @@ from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
 from simunc.physics.dimensional import PiGroup
 from simunc.similitude.envelope import Envelope, envelope
-from simunc.similitude.inputs import UncertainInput
+from simunc.similitude.inputs import UncertainInput, class_range_warnings
 from simunc.similitude.inputs import similitude_problem as similitude_problem  # re-exported
 from simunc.similitude.model import SimilitudeModel, bad_trials, trial_problems
 from simunc.similitude.prepared import Overrides, Prepared, non_physical, prepare
@@ -70,10 +70,16 @@ Part = Literal["requirements", "sweeps"]
 Progress = Callable[[str, int, int], None]
 
 
+#: The notebook view of a :class:`Result` (``result -> HTML``), registered by the report layer
+#: when it is imported (:mod:`simunc.report.notebook`); the pipeline never imports the report.
+NOTEBOOK_VIEW: list[Callable[[Any], str]] = []
+
+
 @dataclass(frozen=True, kw_only=True)
 class Result:
     """Everything one run produces (SI floats, pandas tables); built once, at the end of
-    :func:`run`, from the stages' results."""
+    :func:`run`, from the stages' results.  In a notebook it shows the report's verdict, key
+    outputs, ranking and instrument requirements (``_repr_html_``)."""
 
     study: Study
     settings: RunSettings                   # the run settings used (overrides applied)
@@ -88,7 +94,9 @@ class Result:
     warnings: tuple[str, ...]
     input_values: np.ndarray | None        # kept trials (None when the run streamed)
     output_values: dict[str, np.ndarray] | None
-    preview: np.ndarray                    # Reynolds-number ratio of the first trials
+    #: The first trials (up to :data:`PREVIEW`) of each matched group's output and each output a
+    #: requirement limits, in that order: output -> values (the histograms).
+    preview: dict[str, np.ndarray]
     engine: PropagationResult
     envelope: Envelope | None = None
     test_plan: TestPlan | None = None
@@ -137,6 +145,10 @@ class Result:
         cols = {f"input: {i.name}": self.input_values[:, j] for j, i in enumerate(self.inputs)}
         cols.update({k: np.asarray(v) for k, v in self.output_values.items()})
         return pd.DataFrame(cols)
+
+    def _repr_html_(self) -> str | None:
+        """The notebook view (None, the plain repr, when no view is registered)."""
+        return NOTEBOOK_VIEW[0](self) if NOTEBOOK_VIEW else None
 
 
 def conformity(y: dict[str, np.ndarray], study: Study) -> dict[str, float]:
@@ -202,7 +214,7 @@ def _ranking(sobol: dict[str, pd.DataFrame], stats: pd.DataFrame, study: Study,
 #: Up to this many trials every input and output value is kept (exact quantiles, samples file,
 #: LPU validation on the same trials); above it the engine streams in chunks.
 KEEP_LIMIT = 2_000_000
-#: Trials kept for the histogram figure when the run streams.
+#: Trials kept per output for the histogram figures.
 PREVIEW = 1_000_000
 
 
@@ -211,8 +223,8 @@ class TrialMonitor:
 
     Counts the trials inside every tolerance band (conformity), refuses trials
     outside the model, counts trials at the edge of the subsonic relations and
-    keeps the first :data:`PREVIEW` values of the Reynolds-number ratio for the
-    histogram.
+    keeps the first :data:`PREVIEW` values of every output of :meth:`previewed` for the
+    histograms.
     """
 
     def __init__(self, study: Study, model: SimilitudeModel, prep: Prepared | None = None,
@@ -222,8 +234,16 @@ class TrialMonitor:
         self.n = 0
         self.inside = {b.group: 0 for b in study.bands} | {"all": 0}
         self.sonic = 0
-        self.preview: list[np.ndarray] = []
+        self._preview: dict[str, list[np.ndarray]] = {}
         self._kept = 0
+
+    def previewed(self, y: Mapping[str, np.ndarray]) -> list[str]:
+        """The outputs the histograms show: each matched group's output, then each output a
+        requirement limits that the trials carry (not the extrapolated drag, which the
+        split-test plan forms), once each in that order."""
+        wanted = [b.output for b in self.study.bands] + [
+            r.output for r in self.study.requirements if r.output is not None]
+        return [k for k in dict.fromkeys(wanted) if k in y]
 
     def __call__(self, x: np.ndarray, y: Mapping[str, np.ndarray]) -> None:
         n = len(next(iter(y.values())))
@@ -240,12 +260,17 @@ class TrialMonitor:
         if self.model.kind == "gas":
             self.sonic += int(np.count_nonzero(np.asarray(y["mach_model"]) >= 1.0))
         if self._kept < PREVIEW:
-            take = np.asarray(y["reynolds_ratio"])[: PREVIEW - self._kept]
-            self.preview.append(np.array(take))
-            self._kept += len(take)
+            room = PREVIEW - self._kept
+            for k in self.previewed(y):
+                self._preview.setdefault(k, []).append(np.array(np.asarray(y[k])[:room]))
+            self._kept += min(n, room)
         self.n += n
         if self.progress is not None:
             self.progress("Monte Carlo trials", self.n, max(self.total, self.n))
+
+    def preview(self) -> dict[str, np.ndarray]:
+        """Output -> its first trials (:meth:`previewed`), for the histograms."""
+        return {k: np.concatenate(v) for k, v in self._preview.items()}
 
     def conformity(self) -> dict[str, float]:
         return {g: c / self.n for g, c in self.inside.items()}
@@ -343,7 +368,7 @@ class MonteCarloStage:
     engine: PropagationResult
     statistics: pd.DataFrame
     conformity: dict[str, float]
-    preview: np.ndarray
+    preview: dict[str, np.ndarray]
     warnings: tuple[str, ...]
 
 
@@ -384,7 +409,8 @@ def _monte_carlo(prep: Prepared, progress: Progress | None) -> MonteCarloStage:
         res = propagate(problem, settings.trials, settings.seed, method=settings.sampling,
                         correlation=correlation, keep=settings.trials <= KEEP_LIMIT,
                         coverage_probability=p, on_chunk=monitor)
-    warnings = list(likely_slips(study)) + monitor.warnings() + list(setpoint.coverage)
+    warnings = list(likely_slips(study)) + monitor.warnings() + list(setpoint.coverage) \
+        + class_range_warnings(prep.inputs)
     if not setpoint.feasible:
         top = min((b.priority for b in study.bands if b.solve), default=1)
         first_ok = all(abs(setpoint.mismatch.get(b.group, 0.0)) < 1e-6 for b in study.bands
@@ -404,7 +430,7 @@ def _monte_carlo(prep: Prepared, progress: Progress | None) -> MonteCarloStage:
                         "read the ranking with care.")
     return MonteCarloStage(engine=res, statistics=_engine_statistics(res, setpoint),
                            conformity=monitor.conformity(),
-                           preview=np.concatenate(monitor.preview), warnings=tuple(warnings))
+                           preview=monitor.preview(), warnings=tuple(warnings))
 
 
 @dataclass(frozen=True, kw_only=True)

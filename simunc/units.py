@@ -216,3 +216,95 @@ def to_si(key: str, text: object, dimension: str) -> float:
     0.3
     """
     return parse(key, text, dimension).value
+
+
+def written_unit(text: object) -> str:
+    """The unit of a study value as written (``""`` for a bare number); ``%`` as ``%``.
+
+    >>> written_unit("0.05 mm"), written_unit("0.3 degC"), written_unit(0.002), written_unit("2 %")
+    ('mm', 'degC', '', '%')
+    """
+    if isinstance(text, bool) or not isinstance(text, str):
+        return ""
+    m = _NUMBER.match(text)
+    return m.group(2).strip() if m else ""
+
+
+#: Relative units as written -> the fraction one of them is.
+RELATIVE_FACTORS = {"%": 1e-2, "percent": 1e-2, "permille": 1e-3, "‰": 1e-3, "ppm": 1e-6}
+
+
+def from_si(value: float, dimension: str, unit: str) -> float:
+    """An SI size (a difference or a spread, never an absolute temperature) in the unit it was
+    written in: the inverse of :func:`parse` for a size.
+
+    A temperature difference written in ``degC`` or ``degF`` is a difference of that scale
+    (1 degC = 1 K). A relative unit takes a fraction; a drag count is 1e-4.
+
+    >>> from_si(5e-5, "length", "mm"), from_si(186.6, "pressure", "mbar")
+    (0.05, 1.866)
+    >>> from_si(0.5, "temperature_difference", "degC"), from_si(0.0005, "dimensionless", "%")
+    (0.5, 0.05)
+    """
+    if not unit:
+        return float(value)
+    if unit in RELATIVE_FACTORS:
+        return float(value) / RELATIVE_FACTORS[unit]
+    if _COUNT_WORDS.match(unit.strip().lower()):
+        return float(value) / COUNT
+    q = ureg.Quantity(float(value), DIMENSIONS[dimension][1] or "dimensionless")
+    units = ureg.parse_units(unit)
+    name = str(units)
+    if name in ("degree_Celsius", "degree_Fahrenheit"):
+        units = ureg.parse_units("delta_" + ("degC" if "Celsius" in name else "degF"))
+    out = float(q.to(units).magnitude)
+    return float(f"{out:.12g}")  # drop the last bits of the unit factors' rounding
+
+
+#: Dimensions a report shows in the units the study was written in (engineering units).
+DISPLAY_DIMENSIONS = ("pressure", "temperature", "length", "speed")
+
+
+def dimension_of(unit: str) -> str | None:
+    """The :data:`DISPLAY_DIMENSIONS` entry a written unit measures, else None.
+
+    >>> dimension_of("bar"), dimension_of("degC"), dimension_of("mm"), dimension_of("%")
+    ('pressure', 'temperature', 'length', None)
+    """
+    if not unit or unit in RELATIVE_FACTORS or _COUNT_WORDS.match(unit.strip().lower()):
+        return None
+    try:
+        units = ureg.parse_units(unit)
+    except Exception:  # noqa: BLE001 - any unparsable text simply measures nothing shown
+        return None
+    for dim in DISPLAY_DIMENSIONS:
+        if ureg.Quantity(1.0, units).check(DIMENSIONS[dim][0]):
+            return dim
+    return None
+
+
+def display_units(values) -> dict[str, str]:
+    """The unit written most often for each of :data:`DISPLAY_DIMENSIONS` among study values
+    (the first one written on a tie); a dimension never written is left out.
+
+    >>> display_units(["2.5 bar", "310 K", "0.05 mm", "7 bar", "3.2 m", "0.3 K"])
+    {'pressure': 'bar', 'temperature': 'K', 'length': 'mm'}
+    """
+    counts: dict[str, dict[str, int]] = {}
+    for v in values:
+        unit = written_unit(v)
+        dim = dimension_of(unit)
+        if dim is not None:
+            seen = counts.setdefault(dim, {})
+            seen[unit] = seen.get(unit, 0) + 1
+    return {dim: max(seen, key=lambda u: seen[u]) for dim, seen in counts.items()}
+
+
+def to_display(value: float, dimension: str, unit: str) -> float:
+    """An SI value (an absolute temperature for ``temperature``) in a display unit.
+
+    >>> round(to_display(310.0, "temperature", "degC"), 2), to_display(746421.0, "pressure", "bar")
+    (36.85, 7.46421)
+    """
+    out = float(ureg.Quantity(float(value), DIMENSIONS[dimension][1]).to(unit).magnitude)
+    return float(f"{out:.12g}")

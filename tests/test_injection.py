@@ -349,5 +349,5 @@ def test_console_and_figures(payload_run):
     _no_controls(stdout + stderr)
     assert "wrote" in stdout
     # the figures that draw the input and group names were drawn ($ and mathtext in names)
-    for name in ("sobol_indices.png", "tightening.png", "reynolds_ratio_histogram.png"):
+    for name in ("sobol_indices.png", "tightening.png", "histogram_reynolds_ratio.png"):
         assert (out / name).read_bytes().startswith(b"\x89PNG\r\n\x1a\n")

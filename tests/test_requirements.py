@@ -23,7 +23,7 @@ Reference results used here, all closed forms outside simunc:
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from types import SimpleNamespace
 
 import numpy as np
@@ -40,7 +40,16 @@ from simunc.decisions.sweeps import sweep
 from simunc.decisions.tightening import tightening
 from simunc.errors import StudyError
 from simunc.study.readers import parse_study
-from simunc.study.schema import Band, CostModel, DesignSettings, Requirement, RunSettings, Study
+from simunc.study.schema import (
+    Band,
+    CostModel,
+    DesignSettings,
+    InputSpec,
+    Requirement,
+    RunSettings,
+    Study,
+    Written,
+)
 from simunc.uncertainty.problem import Problem
 from simunc.units import Parsed
 
@@ -81,11 +90,25 @@ def _problem():
                    lambda x: {"reynolds_ratio": 1.0 + sum(c * x[n] for c, n in zip(C, names))})
 
 
+def _spec(name, u, cost=None):
+    """A normal input of standard uncertainty ``u`` [m] as a study writes it."""
+    return InputSpec(name, "model_reference_length", "normal", "standard_uncertainty",
+                     Parsed(float(u), False), 1.0, f"{u:g} m", "", f"uncertain[{name}]",
+                     cost=cost, written=Written(unit="m"))
+
+
+def _grade(name, u, scale, price):
+    """A grade written as U (k = 2) = 2 u scale of that input."""
+    spec = replace(_spec(name, u), size_kind="expanded_uncertainty",
+                   size=Parsed(2.0 * u * scale, False), coverage_factor=2.0)
+    return (f"x{scale:g}", spec, price, "")
+
+
 def _inputs(costs=(None, None, None)):
     return [SimpleNamespace(name=n, target="model_reference_length", targets=(n,),
                             standard_uncertainty=float(u), kind="normal", unit="m", reading=None,
-                            effects=(("model_reference_length", 1.0),),
-                            spec=SimpleNamespace(controllable=True, cost=cost))
+                            effects=(("model_reference_length", 1.0),), component="systematic",
+                            spec=_spec(n, u, cost))
             for n, u, cost in zip("abc", U, costs)]
 
 
@@ -161,10 +184,9 @@ def test_power_cost_allocation_matches_the_lagrange_optimum_and_is_tight():
 def test_grade_allocation_is_the_cheapest_passing_combination():
     limit = Z95 * SIGMA * 0.8
     costs = []
-    for u in U:
+    for n, u in zip("abc", U):
         costs.append(CostModel("grades", grades=tuple(
-            (f"x{s:g}", Parsed(2 * u * s, False), price, "") for s, price in
-            [(0.5, 900.0), (1.0, 300.0), (2.0, 100.0)])))
+            _grade(n, u, s, price) for s, price in [(0.5, 900.0), (1.0, 300.0), (2.0, 100.0)])))
     d = _design([_u_requirement(limit)])
     sens = pd.DataFrame([C], index=["reynolds_ratio"], columns=list("abc"))
     alloc = allocate(d, _inputs(costs), sens, np.diag(U ** 2),
@@ -231,7 +253,7 @@ def test_demo_allocation_is_confirmed_and_fails_when_loosened(demo_result):
     # the instrument table gives U (k = 2) = 2 u scale for every input
     for _, row in a.table.iterrows():
         inp = next(i for i in demo_result.inputs if i.name == row["input"])
-        assert row["allowed U (k = 2)"] == pytest.approx(2 * inp.standard_uncertainty * row["scale"])
+        assert row["U_k2_allowed"] == pytest.approx(2 * inp.standard_uncertainty * row["scale"])
     assert set(a.table.loc[a.table["source"] == "as written", "input"]) >= {
         "Sutherland viscosity model", "full-scale day temperature"}
 
@@ -447,7 +469,8 @@ def test_requirement_no_tolerance_can_meet_gives_no_table(tmp_path):
 def test_relative_grade_is_a_fraction_of_the_reading(demo_result):
     from simunc.decisions.allocation import grade_scale
     inp = next(i for i in demo_result.inputs if i.name == "p0 transducer calibration")
-    grade = ("g", Parsed(0.001, True), 100.0, "0.1 %")
+    grade = ("g", replace(inp.spec, size=Parsed(0.001, True), coverage_factor=2.0), 100.0,
+             "0.1 %")
     p0 = demo_result.setpoint.outputs["stagnation_pressure"]
     # written: U = 0.05 % of p0 at k = 2, so a 0.1 % grade is twice the written tolerance
     assert grade_scale(inp, grade) == pytest.approx(

@@ -37,15 +37,16 @@ def demo_run(tmp_path_factory):
 
 def test_report_files(demo_run):
     names = {p.name for p in demo_run.iterdir()}
-    assert {"report.md", "report.html", "results.json", "reynolds_ratio_histogram.png",
+    assert {"report.md", "report.html", "results.json", "histogram_reynolds_ratio.png",
             "sobol_indices.png", "samples.csv"} <= names
     assert not [n for n in names if n.startswith(".simunc-")]  # temporary folder removed
 
 
 def test_html_is_self_contained(demo_run):
     page = (demo_run / "report.html").read_text()
-    # histogram, envelope, Sobol, tightening and the demo's two sweeps
-    assert page.count("data:image/png;base64,") == 6
+    # histograms of the Reynolds ratio and the Mach difference, envelope, Sobol, tightening and
+    # the demo's two sweeps
+    assert page.count("data:image/png;base64,") == 7
     assert "src=\"http" not in page and "href=\"http" not in page
 
 

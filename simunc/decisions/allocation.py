@@ -45,14 +45,16 @@ import numpy as np
 import pandas as pd
 from scipy import optimize, special
 
-from simunc.decisions.balance import choices
+from simunc.decisions.balance import balance_spec, balances, choices
 from simunc.decisions.requirements import (
     KINDS,
     LOOSEN,
     SCREEN,
     centre_of,
 )
+from simunc.similitude.inputs import standard_uncertainty
 from simunc.study.planning import MAX_GRADE_COMBINATIONS
+from simunc.study.written import statement
 
 if TYPE_CHECKING:
     from simunc.decisions.design import Design
@@ -116,16 +118,19 @@ def input_limits(design, inputs) -> pd.DataFrame:
         ``status`` (``limit``; ``not limiting`` up to the study's
         ``design.largest_scale``; ``others break it`` when no scale tried
         meets every requirement, with the allowed values NaN; ``not achievable``
-        when even every input known exactly misses a requirement), ``U_k2_written`` and ``U_k2_allowed``
-        [SI unit of the input], ``unit``.
+        when even every input known exactly misses a requirement), ``written`` and ``allowed``
+        (the tolerance in the form and units the study wrote it, :func:`statement`),
+        ``U_k2_written`` and ``U_k2_allowed`` [SI unit of the input], ``unit``.
     """
     largest = design.study.design.largest_scale
     rows = []
     possible = design.figures(np.zeros(len(inputs)), margin=True).met()
     for j, inp in enumerate(inputs):
+        written = statement(inp.spec)
         if not possible:
             rows.append({"input": inp.name, "perturbs": ", ".join(inp.targets),
                          "largest_scale": np.nan, "status": "not achievable",
+                         "written": written, "allowed": "",
                          "U_k2_written": 2.0 * inp.standard_uncertainty, "U_k2_allowed": np.nan,
                          "unit": inp.unit})
             continue
@@ -136,8 +141,10 @@ def input_limits(design, inputs) -> pd.DataFrame:
         s, status = _largest_scale(ok, largest)
         if status == "others break it":
             s = np.nan
+        allowed = "" if status == "others break it" else statement(inp.spec, s)
         rows.append({"input": inp.name, "perturbs": ", ".join(inp.targets),
-                     "largest_scale": s, "status": status,
+                     "largest_scale": s, "status": status, "written": written,
+                     "allowed": ("at least " + allowed) if status == "not limiting" else allowed,
                      "U_k2_written": 2.0 * inp.standard_uncertainty,
                      "U_k2_allowed": 2.0 * inp.standard_uncertainty * s,
                      "unit": inp.unit})
@@ -263,12 +270,9 @@ def _power_cost(inputs, idx, s) -> float:
 
 
 def grade_scale(inp, grade) -> float:
-    """Tolerance scale of a grade: U_grade / (2 u_written)."""
-    _, size, _, _ = grade
-    value = size.value
-    if size.relative and inp.reading is not None:
-        value *= inp.reading
-    return value / (2.0 * inp.standard_uncertainty)
+    """Tolerance scale of a grade: u_grade / u_written, with u of the grade as its datasheet
+    states it, resolved at the input's reading with the input's distribution."""
+    return standard_uncertainty(grade[1], inp.reading) / inp.standard_uncertainty
 
 
 def _scale_to_fit(design, base: np.ndarray, idx: list[int], largest: float) -> float:
@@ -417,7 +421,13 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
         looser = scale.copy()
         looser[idx] *= LOOSEN
         loosened = vd.figures(looser).requirements
-        table = instrument_table(inputs, scale, idx, grades)
+        specs = {}
+        if chosen_balance and meas is not None and balance is not None:
+            cap, fs = next((c, f) for n, c, f, _ in balances(meas) if n == chosen_balance)
+            if chosen_balance != meas.balance or fs:   # the written balance keeps its inputs
+                specs = {inputs[j].name: balance_spec(inputs[j], meas, cap, fs)
+                         for j in balance.indices}
+        table = instrument_table(inputs, scale, idx, grades, specs)
     excursions = tuple(control_excursions(inputs, scale, design.setpoint)) \
         if ok and not message else ()
     return Allocation(kind, scale, cost, cost_written, grades, table, design_checks, verification,
@@ -503,19 +513,34 @@ def control_excursions(inputs, scale, setpoint) -> list[str]:
     return out
 
 
-def instrument_table(inputs, scale, allocated, grades) -> pd.DataFrame:
-    """Instrument requirements: quantity, allowed U (k = 2), distribution assumed."""
+def instrument_table(inputs, scale, allocated, grades, specs=None) -> pd.DataFrame:
+    """Instrument and control requirements for the test plan.
+
+    Columns: ``input``, ``quantity``, ``written`` (the tolerance as the study wrote it),
+    ``allowed`` (the allowed tolerance in the same form and units, numbers rounded down to two
+    significant digits; a chosen grade as its datasheet states it), ``scale``, ``distribution``,
+    ``component``, ``source``, and in SI: ``U_k2_written``, ``U_k2_allowed`` (2u) and ``unit``.
+    ``specs``: the inputs of a chosen balance on that balance (their allowed form).
+    """
     rows = []
+    specs = specs or {}
     for j, inp in enumerate(inputs):
         u = inp.standard_uncertainty * float(scale[j])
-        reading = inp.reading
+        if inp.name in specs:
+            allowed, source = statement(specs[inp.name]), f"balance '{grades[inp.name]}'"
+        elif inp.name in grades and inp.spec.cost is None:   # the written balance, chosen
+            allowed, source = statement(inp.spec), f"balance '{grades[inp.name]}'"
+        elif inp.name in grades:
+            grade = next(g for g in inp.spec.cost.grades if g[0] == grades[inp.name])
+            allowed, source = grade[3], f"grade '{grades[inp.name]}'"
+        else:
+            allowed = statement(inp.spec, float(scale[j]))
+            source = "allocated" if j in allocated else "as written"
         rows.append({
             "input": inp.name, "quantity": inp.target.replace("_", " "),
-            "allowed U (k = 2)": 2.0 * u, "unit": inp.unit,
-            "% of reading": 100.0 * 2.0 * u / reading if reading else np.nan,
-            "distribution": inp.kind, "as written U (k = 2)": 2.0 * inp.standard_uncertainty,
-            "scale": float(scale[j]),
-            "source": (f"grade '{grades[inp.name]}'") if inp.name in grades else
-            ("allocated" if j in allocated else "as written"),
+            "written": statement(inp.spec), "allowed": allowed, "scale": float(scale[j]),
+            "distribution": inp.kind, "component": inp.component, "source": source,
+            "U_k2_written": 2.0 * inp.standard_uncertainty, "U_k2_allowed": 2.0 * u,
+            "unit": inp.unit,
         })
     return pd.DataFrame(rows)

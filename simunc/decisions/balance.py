@@ -35,8 +35,9 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from simunc.similitude.inputs import UncertainInput, standard_uncertainty
+from simunc.study.catalogue import TARGETS
 from simunc.study.schema import InputSpec, Measurement
-from simunc.units import Parsed
+from simunc.units import DIMENSIONS, Parsed, from_si, written_unit
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -111,8 +112,13 @@ def balance_spec(inp: UncertainInput, m: Measurement, capacity: Mapping[str, flo
         # the range as written (one- or two-sided) scaled with the capacity
         fraction = full_scale.get(component, spec.full_scale_fraction)
         span = spec.span * ratio if spec.span > 0.0 else capacity[component]
+        unit = written_unit(spec.written.range_text.split(" to ")[-1]) or \
+            DIMENSIONS[TARGETS[inp.target].dimension][1]
+        text = f"{from_si(span, TARGETS[inp.target].dimension, unit):.6g} {unit}" + (
+            " span" if " to " in spec.written.range_text else "")
         return replace(spec, fixed=spec.fixed - spec.full_scale_fraction * spec.span
-                       + fraction * span, full_scale_fraction=fraction, span=span)
+                       + fraction * span, full_scale_fraction=fraction, span=span,
+                       written=replace(spec.written, range_text=text))
     if spec.size.relative:
         return spec
     return replace(spec, size=Parsed(spec.size.value * ratio, spec.size.relative),

@@ -61,6 +61,10 @@ class Check:
     limit: float      # the limit of U [unit of y] or the required probability
     met: bool
     output: str | None = None
+    #: What a limit on the output judges, in its unit (:func:`judged`): the centre (a ``within``;
+    #: NaN: about the trials' mean) and the half-width (NaN for a conformity requirement).
+    centre: float = math.nan
+    half_width: float = math.nan
 
 
 def centre_of(output: str, study, setpoint) -> float:
@@ -75,6 +79,16 @@ def limit_of(req, study, setpoint) -> float:
     if req.relative:
         return req.limit * abs(float(setpoint.outputs[req.output]))
     return req.limit
+
+
+def judged(req, study, setpoint) -> tuple[float, float]:
+    """``(centre, half-width)`` of the interval a requirement on an output judges: a ``within``
+    its :func:`centre_of` and :func:`limit_of`; an expanded uncertainty NaN (the interval's
+    centre is the trials') and :func:`limit_of`; a conformity requirement NaN, NaN."""
+    if req.output is None or req.kind == "conformity":
+        return math.nan, math.nan
+    centre = centre_of(req.output, study, setpoint) if req.kind == "within" else math.nan
+    return centre, limit_of(req, study, setpoint)
 
 
 def u_margin(v: np.ndarray, p: float, n_design: int, n_verify: int) -> float:
@@ -189,10 +203,12 @@ def check_all(requirements, y, study, setpoint, p: float, *, trials: int, margin
     """
     out = []
     for r in requirements:
+        centre, half = judged(r, study, setpoint)
         if not finite:
-            out.append(Check(r.key, r.text, r.kind, np.nan, np.nan, False, r.output))
+            out.append(Check(r.key, r.text, r.kind, np.nan, np.nan, False, r.output, centre, half))
             continue
         value, limit, met = KINDS[r.kind].evaluate(r, y, study, setpoint, p, trials=trials,
                                                    margin=margin)
-        out.append(Check(r.key, r.text, r.kind, float(value), float(limit), bool(met), r.output))
+        out.append(Check(r.key, r.text, r.kind, float(value), float(limit), bool(met), r.output,
+                         centre, half))
     return out

@@ -40,7 +40,7 @@ def extrapolation_lines(result) -> list[str]:
     lines = [f"Drag extrapolated from the split-test plan to full-scale Re (ratio {e.ratio:.3g}, "
              f"{lit(e.law)}): U ({pe}) = {two_digits(e.U_counts)} counts about the true value."]
     for c in e.checks:
-        lines.append(f"Requirement {lit(c.text)}: {'met' if c.met else 'not met'} by the plan as "
+        lines.append(f"Requirement {lit(c.text)}: {'met' if c.met else '**NOT met**'} by the plan as "
                      f"made (U = {two_digits(c.value / COUNT)} counts)." + (
                          "" if c.met or e.runs_for is None else " " + _runs_for_text(e.runs_for)))
     return lines

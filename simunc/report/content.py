@@ -9,10 +9,12 @@ import pandas as pd
 
 from simunc import __version__
 from simunc.report import coefficients, decisions, matrix
-from simunc.report.blocks import Block, fmt
+from simunc.report.blocks import Block, achieved, engineering, fmt, requirement_label
 from simunc.report.blocks import table as _table
+from simunc.report.figures import histogram_files
 from simunc.report.text import lit, two_digits, with_uncertainty
 from simunc.study.catalogue import describe_output
+from simunc.study.written import statement
 
 SAFETY = [
     "Pressurised facilities store a great deal of energy in the gas: run only inside the "
@@ -61,9 +63,10 @@ def _first_to_tighten(result, sp) -> list[str]:
     line = [f"Input to control more tightly first: {lit(name)} ({lit(t.loc[name, 'perturbs'])})."]
     scope = " (the study's own point)" if result.matrix is not None else ""
     if result.requirement_checks is not None:
-        bad = [c.key for c in result.requirement_checks if not c.met]
+        bad = [f"{requirement_label(c.key)} ({lit(c.text)})" for c in result.requirement_checks
+               if not c.met]
         line.append(f"Requirements at the written tolerances{scope}: " + (
-            "all met." if not bad else f"not met: {lit(', '.join(bad))}."))
+            "all met." if not bad else f"not met: {'; '.join(bad)}."))
     if result.allocation is not None:
         a = result.allocation
         line.append(f"No allocation meets the requirements{scope}: {lit(a.message)}."
@@ -73,18 +76,10 @@ def _first_to_tighten(result, sp) -> list[str]:
     return line
 
 
-def _achieved(c, study) -> str:
-    """A requirement's achieved value as the test plan writes it: U in counts for the drag, in
-    % where the limit is a %, two significant digits (JCGM 100 7.2.6), a probability in %."""
-    if c.kind != "expanded_uncertainty":
-        return f"P = {100 * c.value:.1f} %"
-    r = next((r for r in study.requirements if r.key == c.key), None)
-    if r is not None and r.relative and c.limit > 0:
-        return f"U = {two_digits(100 * c.value * r.limit / c.limit)} %"
-    if c.output == "drag_coefficient":
-        return f"U = {two_digits(c.value / 1e-4)} counts"
-    unit = describe_output(c.output)[0] if c.output else ""
-    return f"U = {two_digits(c.value)}" + (f" {unit}" if unit and unit != "1" else "")
+#: The state of a planned run shown in the split-test plan, with its SI unit.
+RUN_STATE = (("stagnation_pressure", "Pa"), ("stagnation_temperature", "K"), ("mach", "1"),
+             ("speed", "m/s"), ("static_pressure", "Pa"), ("temperature", "K"),
+             ("model_length", "m"))
 
 
 def verdict_lines(result) -> list[str]:
@@ -97,17 +92,22 @@ def verdict_lines(result) -> list[str]:
               "point is analysed (see the split-test plan and the facility limits)."),
              f"Probability that every matched group stays in its band: "
              f"**{100 * result.conformity['all']:.1f} %** ({result.trials} trials)."]
+    if not sp.feasible and sp.messages:
+        lines.insert(1, lit(sp.messages[0].rstrip(".")) + ".")
     if result.requirement_checks is not None:
         met = sum(c.met for c in result.requirement_checks)
         lines.append(f"Requirements at the written tolerances: **{met} of "
                      f"{len(result.requirement_checks)} met**.")
         for c in result.requirement_checks:
             lines.append(f"{'met' if c.met else '**NOT met**'}: {lit(c.text)} — achieved "
-                         f"{_achieved(c, st)}.")
+                         f"{achieved(c, st)}.")
+    if st.plan_requirements:   # judged on the runs of the split-test plan, not on one point
+        lines += coefficients.extrapolation_lines(result)
+    lines += matrix.summary_lines(result)[1:]   # every requirement at every matrix point
     t = result.tightening
     if sp.feasible and t is not None and len(t) and t["controllable"].any():
         name = t[t["controllable"]].index[0]
-        lines.append(f"Tighten first: **{lit(name)}** (halving its tolerance cuts U by "
+        lines.append(f"Tighten first: **{lit(name)}** (halving its tolerance cuts 2u by "
                      f"{two_digits(float(t.loc[name, 'gain_bands']))} of a band half-width or "
                      "requirement limit).")
     a = result.allocation
@@ -115,7 +115,7 @@ def verdict_lines(result) -> list[str]:
         lines.append(f"No allocation meets the requirements: {lit(a.message)}." if a.message
                      else f"Least-cost allocation: cost **{fmt(a.cost)}**, fresh Monte Carlo "
                      f"check {'passed' if a.verified else 'FAILED'}.")
-    return lines
+    return lines + [f"Warning: {lit(w)}" for w in result.warnings]
 
 
 def build(result) -> list[Block]:
@@ -159,7 +159,9 @@ def build(result) -> list[Block]:
         rows[1:1] = [("depth", fs.depth, "m")]
     if fs.frequency is not None:
         rows.append(("frequency", fs.frequency, "Hz"))
-    rows += [(f"{band.group} number", o[f"{band.group}_full_scale"], "1") for band in st.bands]
+    rows += [(describe_output(f"{band.group}_full_scale")[1], o[f"{band.group}_full_scale"], "1")
+             for band in st.bands if f"{band.group}_full_scale" in o]
+    rows = engineering(rows, st, skip=("temperature offset",))
     b.append(Block("table", _table(pd.DataFrame(rows, columns=["quantity", "value", "unit"]))))
 
     b.append(Block("heading", "Matched set point"))
@@ -182,15 +184,16 @@ def build(result) -> list[Block]:
              ("viscosity mu", o["viscosity"], "Pa s"),
              ("dynamic pressure q", o["dynamic_pressure"], "Pa")]
     for band in st.bands:
-        rows += [(f"{band.group} number (model)", o[f"{band.group}_model"], "1"),
-                 (band.output, o[band.output], "1")]
+        rows += [(describe_output(k)[1], o[k], "1") for k in (f"{band.group}_model", band.output)
+                 if k in o]
+    rows = engineering(rows, st)
     b.append(Block("table", _table(pd.DataFrame(rows, columns=["quantity", "value", "unit"]))))
     if sp.limits:
-        lim = pd.DataFrame([(x.quantity, x.side, x.bound, x.value, x.unit,
-                             "VIOLATED" if not x.ok else ("binding" if x.active and not sp.feasible
-                                                         else "ok"))
-                            for x in sp.limits],
-                           columns=["quantity", "limit", "bound", "set point", "unit", "status"])
+        lim = pd.DataFrame(engineering(
+            [(x.quantity.replace("_", " "), x.side, x.bound, x.value, x.unit,
+              "VIOLATED" if not x.ok else ("binding" if x.active and not sp.feasible else "ok"))
+             for x in sp.limits], st, columns=(2, 3), unit_column=4),
+            columns=["quantity", "limit", "bound", "set point", "unit", "status"])
         b.append(Block("paragraph", "Facility limits:"))
         b.append(Block("table", _table(lim)))
     if sp.mismatch:
@@ -207,8 +210,11 @@ def build(result) -> list[Block]:
         b.append(Block("bullets", [lit(m) for m in sp.messages]))
 
     if result.envelope is not None:
-        b.append(Block("figure", "envelope_map.png", caption="Reynolds numbers the facility reaches "
-                       "against the Mach (or Froude) number, full-scale target and set point."))
+        b.append(Block("figure", "envelope_map.png", caption=(
+            "Cavitation numbers the facility reaches against its speed" if
+            result.envelope.cavitation is not None else "Reynolds numbers the facility reaches "
+            "against the Mach (or Froude) number") + ", full-scale target, set point and the "
+            "planned runs."))
     tp = result.test_plan
     if tp is not None and tp.runs:
         b.append(Block("heading", "Split-test plan"))
@@ -217,13 +223,15 @@ def build(result) -> list[Block]:
         run_rows = []
         for r in tp.runs:
             row = {"run": r.label, "purpose": r.purpose}
-            for k in ("stagnation_pressure", "stagnation_temperature", "mach", "speed",
-                      "static_pressure", "temperature", "model_length"):
+            for k, si in RUN_STATE:
                 if k in r.state and r.state[k] is not None:
-                    row[k] = r.state[k]
-            row["reynolds_ratio"] = r.outputs["reynolds_ratio"]
+                    value, unit = engineering([(k, r.state[k], si)], st)[0][1:]
+                    row[f"{k.replace('_', ' ')} [{unit}]" if unit != "1" else k.replace(
+                        "_", " ")] = value
+            row["Re ratio (model / full scale)"] = r.outputs["reynolds_ratio"]
             key = "mach_difference" if tp.primary == "mach" else f"{tp.primary}_ratio"
-            row[key] = r.outputs[key]
+            row[describe_output(key)[1].split(":")[0].split(" ")[0] + (
+                " difference" if tp.primary == "mach" else " ratio")] = r.outputs[key]
             run_rows.append(row)
         b.append(Block("table", _table(pd.DataFrame(run_rows))))
         b.append(Block("bullets", [lit(n) for n in tp.notes]))
@@ -239,12 +247,10 @@ def build(result) -> list[Block]:
     b.append(Block("heading", "Uncertain inputs"))
     if result.inputs:
         input_rows = [(i.name, ", ".join(t for t, _ in i.effects), f"{i.kind} ({i.component})",
-                 f"{i.spec.size_kind.replace('_', ' ')} {i.spec.text}"
-                 + (f" (k = {i.spec.coverage_factor:g})" if i.spec.size_kind == "expanded_uncertainty" else ""),
-                 i.standard_uncertainty, i.unit)
-                for i in result.inputs]
-        b.append(Block("table", _table(pd.DataFrame(
-            input_rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"]))))
+                       statement(i.spec), two_digits(i.standard_uncertainty), i.unit)
+                      for i in result.inputs]
+        b.append(Block("table", pd.DataFrame(
+            input_rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"])))
         b.append(Block("paragraph", "Measurement model: true value = set point - indication error "
                        "+ control deviation; a size in % is a fraction of the reading at the set point."))
     else:
@@ -283,7 +289,10 @@ def build(result) -> list[Block]:
         b.append(Block("paragraph", f"The matched groups, the outputs a requirement limits and "
                        f"the measured coefficients: mean and standard uncertainty u rounded as "
                        f"JCGM 100 7.2.6 asks (u to two digits), and the {p:g} % coverage "
-                       "interval. Every output is in the next section."))
+                       "interval. Every output is in the next section. Throughout the report U "
+                       f"is the expanded uncertainty, the half-length of the probabilistically "
+                       f"symmetric {p:g} % coverage interval (JCGM 101, 7.7), and 2u twice the "
+                       "standard uncertainty; a certificate's U is at the k it states."))
         b.append(Block("table", pd.DataFrame(key_rows, columns=[
             "quantity", "unit", "mean", "u", f"{p:g} % interval"])))
     b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))
@@ -310,8 +319,12 @@ def build(result) -> list[Block]:
     band_rows.append(("all matched groups", "", "", fmt(100 * conf["all"]) + " %"))
     b.append(Block("paragraph", "Conformity probability (share of trials inside the band):"))
     b.append(Block("table", pd.DataFrame(band_rows, columns=["group", "output", "band", "probability"])))
-    b.append(Block("figure", "reynolds_ratio_histogram.png",
-                   caption="Achieved Reynolds-number ratio: trials, tolerance band, coverage interval."))
+    for output, name in histogram_files(result).items():
+        what = " and ".join(w for w, on in (
+            ("tolerance band", any(band.output == output for band in st.bands)),
+            ("requirement limits", any(r.output == output for r in st.requirements))) if on)
+        b.append(Block("figure", name, caption=lit(describe_output(output)[1]) + f": trials, "
+                       f"{what}, {p:g} % coverage interval and nominal value."))
 
     if result.validation is not None:
         b.append(Block("heading", "GUM uncertainty framework against Monte Carlo (JCGM 101, 8)"))
@@ -352,11 +365,12 @@ def build(result) -> list[Block]:
     b += coefficients.coefficient_blocks(result)
     b += matrix.matrix_blocks(result)
     if result.inputs:
-        b += decisions.sensitivity_blocks(result)
         b += decisions.tightening_blocks(result)
         b += decisions.requirement_blocks(result)
         b += decisions.sweep_blocks(result)
         b += decisions.correlated_scaling_blocks(result)
+        b += decisions.sensitivity_blocks(result)
+        b += decisions.ranking_detail_blocks(result)
 
     b.append(Block("heading", "Safety"))
     b.append(Block("bullets", [SAFETY[0], SAFETY[1].format(q=f"{o['dynamic_pressure'] / 1e3:.1f}"),

@@ -5,8 +5,9 @@ from __future__ import annotations
 import pandas as pd
 
 from simunc.decisions.requirements import LOOSEN
-from simunc.report.blocks import Block, fmt, table
-from simunc.report.text import lit
+from simunc.report.blocks import Block, achieved, fmt, requirement_label, table
+from simunc.report.text import lit, two_digits
+from simunc.study.written import statement
 
 
 def sensitivity_blocks(result) -> list[Block]:
@@ -44,10 +45,16 @@ def sensitivity_blocks(result) -> list[Block]:
                       if any(st.limit_of_output(o) is not None for o in st.coefficient_outputs)
                       else ".")))
     if sr is not None and sr.second_order is not None:
-        b.append(Block("paragraph", "Second-order indices S2 (interactions of two inputs):"))
+        b.append(Block("paragraph", "Second-order indices S2 (interactions of two inputs), only "
+                       "those larger than their 95 % bootstrap half-width S2_conf (the others "
+                       "are not resolved from zero at this number of base samples):"))
         for out, t in sr.second_order.items():
             t = t.reset_index()
+            t = t[t["S2"].abs() > t["S2_conf"]]
             t = t.reindex(t["S2"].abs().sort_values(ascending=False).index).head(10)
+            if not len(t):
+                b.append(Block("paragraph", f"**{lit(out)}**: no interaction resolved."))
+                continue
             b.append(Block("paragraph", f"**{lit(out)}** (largest ten)"))
             b.append(Block("table", table(t)))
     if sr is not None and sr.groups is not None:
@@ -69,31 +76,60 @@ def sensitivity_blocks(result) -> list[Block]:
     return b
 
 
+def _pct(v) -> str:
+    """A share in % to two significant digits (``<0.01`` below)."""
+    v = float(v)
+    if not pd.notna(v):
+        return "n/a"
+    return "0" if v == 0.0 else ("<0.01" if abs(v) < 0.01 else two_digits(v))
+
+
+def ranking_table(result) -> pd.DataFrame | None:
+    """One ranking of the inputs: what each brings, what halving it buys, whether it is
+    controllable (the tightening order: facility instruments and controls first)."""
+    st, t, r = result.study, result.tightening, result.ranking
+    if t is None or not len(t):
+        return None
+    limited = [o for o in st.coefficient_outputs if st.limit_of_output(o) is not None]
+    outs = [band.output for band in st.bands] + limited
+    rows = []
+    for name in t.index:
+        row = {"rank": int(t.loc[name, "rank"]), "input": name,
+               "controllable": "yes" if t.loc[name, "controllable"] else "no"}
+        for out in outs:
+            row[f"share of Var({out}) %"] = _pct(t.loc[name, f"variance_removed_percent_{out}"])
+        if r is not None and name in r.index and "largest_band_share" in r.columns:
+            row["2u it brings / tolerance"] = two_digits(float(r.loc[name, "largest_band_share"]))
+        row["halving it: Δ(2u) / tolerance"] = two_digits(float(t.loc[name, "gain_bands"]))
+        row["halving it: ΔP(match), points"] = _pct(100.0 * float(t.loc[name, "delta_conformity"]))
+        rows.append(row)
+    return pd.DataFrame(rows)
+
+
 def tightening_blocks(result) -> list[Block]:
     st = result.study
     b = [Block("heading", "Which input to control more tightly")]
     t = result.tightening
+    limited = [o for o in st.coefficient_outputs if st.limit_of_output(o) is not None]
     if t is not None and len(t):
-        src = ("Shapley first_order_full" if result.shapley is not None else
-               "Sobol S1, which ignores the correlations" if st.correlation is not None
-               else "Sobol S1")
-        limited = [o for o in st.coefficient_outputs if st.limit_of_output(o) is not None]
-        b.append(Block("paragraph", f"For each input: the variance of each matched group removed "
-                       f"if the input were known exactly ({src} × Var(y)), and, on "
-                       f"{result.design_trials} common-random-number trials, the expanded "
-                       "uncertainty U = 2u (k = 2) and the probability that every group is inside "
-                       "its band with that input's tolerance halved. gain = the largest drop of U "
-                       "over a group's tolerance half-width"
-                       + (" or over the requirement limit on a measured coefficient ("
-                          + lit(", ".join(limited)) + ")" if limited else "")
-                       + ". Facility instruments and controls "
-                       "come first; conditions and property models (controllable = false) follow "
-                       "— a tighter tolerance there means better data, not a better facility."))
-        cols = ["rank", "perturbs", "controllable"]
-        for out in [band.output for band in st.bands] + limited:
-            cols += [f"variance_removed_percent_{out}", f"delta_U_k2_{out}"]
-        cols += ["delta_conformity", "gain_bands"]
-        b.append(Block("table", table(t[cols].reset_index())))
+        src = ("the Shapley first-order effect, dependence included" if result.shapley is not None
+               else "the Sobol first-order index, which ignores the correlations"
+               if st.correlation is not None else "the Sobol first-order index")
+        basis = ("the Shapley effect" if st.correlation is not None else "the Sobol total index")
+        b.append(Block("paragraph", "One ranking of the inputs. **share of Var** is the share of "
+                       f"each output's variance removed if the input were known exactly ({src}); "
+                       "**2u it brings / tolerance** twice the standard uncertainty the input "
+                       f"brings to a matched group ({basis}), over that group's tolerance "
+                       "half-width" + (" or a coefficient's requirement limit" if limited else "")
+                       + ", the largest over the outputs; **halving it** gives what halving the "
+                       f"input's tolerance buys, on {result.design_trials} common-random-number "
+                       "trials: the largest drop of 2u over a tolerance half-width or "
+                       "limit, and the change of the probability that every group stays in its "
+                       "band, in percentage points. Facility instruments and controls come first, "
+                       "by what halving buys; conditions and property models (controllable = no) "
+                       "follow — a tighter tolerance there means better data, not a better "
+                       "facility."))
+        b.append(Block("table", ranking_table(result)))
         worse = [n for n in t.index if any(t.loc[n, f"delta_U_k2_{band.output}"] > 0
                                           for band in st.bands)]
         if worse and st.correlation is not None:
@@ -105,14 +141,34 @@ def tightening_blocks(result) -> list[Block]:
         top = t[t["controllable"]]
         if len(top):
             b.append(Block("paragraph", f"Control more tightly first: **{lit(top.index[0])}** "
-                           f"(halving its tolerance cuts U by {fmt(top.iloc[0]['gain_bands'])} of "
-                           "a band half-width" + (" or requirement limit" if limited else "")
+                           f"(halving its tolerance cuts 2u by {two_digits(top.iloc[0]['gain_bands'])} "
+                           "of a band half-width" + (" or requirement limit" if limited else "")
                            + ")."))
-        b.append(Block("figure", "tightening.png", caption="Drop of the expanded uncertainty "
-                       "(k = 2), in tolerance half-widths, when one input's tolerance is halved."))
-    basis = ("the Shapley effect (the inputs are correlated)" if result.study.correlation
+        b.append(Block("figure", "tightening.png", caption="Drop of twice the standard uncertainty "
+                       "(2u), in tolerance half-widths, when one input's tolerance is halved."))
+    return b
+
+
+def ranking_detail_blocks(result) -> list[Block]:
+    """The figures the ranking combines, per output (an appendix section)."""
+    st, t = result.study, result.tightening
+    if (t is None or not len(t)) and result.ranking is None:
+        return []
+    b = [Block("heading", "Ranking details")]
+    if t is not None and len(t):
+        limited = [o for o in st.coefficient_outputs if st.limit_of_output(o) is not None]
+        cols = ["rank", "perturbs", "controllable"]
+        for out in [band.output for band in st.bands] + limited:
+            cols += [f"variance_removed_percent_{out}", f"delta_U_k2_{out}"]
+        cols += ["delta_conformity", "gain_bands"]
+        b.append(Block("paragraph", "Halving each tolerance alone: variance removed if the input "
+                       "were known exactly (%), the change of 2u (delta_U_k2) with its tolerance halved, "
+                       "the change of the probability that every group is in its band, and gain "
+                       "= the largest drop of 2u over a tolerance half-width or limit."))
+        b.append(Block("table", table(t[cols].reset_index())))
+    basis = ("the Shapley effect (the inputs are correlated)" if st.correlation
              is not None else "the Sobol total index ST")
-    b.append(Block("paragraph", "band share = 2 sqrt(s var(y)) / tolerance: the expanded (k = 2) "
+    b.append(Block("paragraph", "band share = 2 sqrt(s var(y)) / tolerance: twice the standard "
                    "uncertainty an input brings to a matched group, as a fraction of that group's "
                    f"tolerance half-width, with s its share of var(y) from {basis} "
                    "(column variance_share)"
@@ -123,10 +179,10 @@ def tightening_blocks(result) -> list[Block]:
     return b
 
 
-def _checks(checks) -> pd.DataFrame:
-    return pd.DataFrame([(c.key, c.text, c.value, c.limit, "met" if c.met else "NOT met")
-                         for c in checks], columns=["requirement", "statement", "value", "limit",
-                                                    "status"])
+def _checks(checks, study) -> pd.DataFrame:
+    return pd.DataFrame([(requirement_label(c.key), c.text, achieved(c, study),
+                          "met" if c.met else "NOT met") for c in checks],
+                        columns=["no.", "requirement (as written)", "achieved", "status"])
 
 
 def requirement_blocks(result) -> list[Block]:
@@ -138,7 +194,7 @@ def requirement_blocks(result) -> list[Block]:
     b.append(Block("paragraph", f"At the tolerances as written ({ds.verify_trials} fresh Monte "
                    "Carlo trials). U is the half-length of the probabilistically symmetric "
                    "coverage interval; a % limit is a fraction of the output's set-point value."))
-    b.append(Block("table", table(_checks(result.requirement_checks))))
+    b.append(Block("table", _checks(result.requirement_checks, st)))
     lim = result.input_limits
     if lim is not None and len(lim):
         b.append(Block("paragraph", f"Largest tolerance of each input alone (the others as "
@@ -148,8 +204,10 @@ def requirement_blocks(result) -> list[Block]:
                        "at the written tolerance. 'others break it': no tolerance of this input "
                        "alone meets every requirement (the others break one); 'not limiting': "
                        f"met up to {ds.largest_scale:g} times the written tolerance."))
-        b.append(Block("table", table(lim[["perturbs", "status", "largest_scale", "U_k2_written",
-                                           "U_k2_allowed", "unit"]].reset_index())))
+        lim_tab = lim.reset_index()[["input", "status", "written", "allowed", "largest_scale"]]
+        b.append(Block("table", table(lim_tab.rename(columns={
+            "written": "as written", "allowed": "largest alone (same form)",
+            "largest_scale": "× written"}))))
         if (lim["status"] == "not achievable").any():
             b.append(Block("paragraph", "**Not achievable at this set point:** the requirements "
                            "fail even with every input known exactly; no tolerance can fix that "
@@ -175,18 +233,22 @@ def requirement_blocks(result) -> list[Block]:
                        f"trials, independent seed stream): **{'every requirement met' if a.verified else 'NOT every requirement met'}**. "
                        f"With every allocated tolerance loosened by {100 * (LOOSEN - 1):.0f} %: "
                        f"{'some requirement fails (the allocation is tight)' if a.fails_loosened else 'still met (the allocation has slack)'}."))
-        rows = [(c.key, c.text, c.value, v.value, c.limit, "met" if c.met else "NOT met")
-                for c, v in zip(a.verification, a.loosened)]
-        b.append(Block("table", table(pd.DataFrame(rows, columns=[
-            "requirement", "statement", "achieved", f"loosened ×{LOOSEN:g}", "limit", "status"]))))
+        rows = [(requirement_label(c.key), c.text, achieved(c, st), achieved(v, st),
+                 "met" if c.met else "NOT met") for c, v in zip(a.verification, a.loosened)]
+        b.append(Block("table", pd.DataFrame(rows, columns=[
+            "no.", "requirement (as written)", "achieved", f"loosened ×{LOOSEN:g}", "status"])))
     if a.table is None:
         b.append(Block("paragraph", "No instrument-requirements table: no allocation meets the "
                        "requirements."))
         return b
-    b.append(Block("paragraph", "Instrument and control requirements for the test plan (allowed "
-                   "expanded uncertainty at k = 2, i.e. twice the standard uncertainty, with the "
-                   "distribution assumed):"))
-    b.append(Block("table", table(a.table)))
+    b.append(Block("paragraph", "Instrument and control requirements for the test plan. Each "
+                   "allowed tolerance is stated in the form and units the study wrote it: ±a "
+                   "limits for controls and resolutions, ±(% of reading + % of full scale) for "
+                   "datasheet accuracies, U at the stated k (or coverage probability) for "
+                   "certificates, u for standard uncertainties; a chosen grade as its datasheet "
+                   "states it. Allowed numbers are rounded down to two significant digits. The "
+                   "same table, with 2u written and allowed in SI units, is in tolerances.csv."))
+    b.append(Block("table", instrument_view(a.table)))
     if not a.message:
         b.append(Block("bullets", [
             "The allowed tolerances are accuracy requirements. A looser control tolerance also "
@@ -196,6 +258,38 @@ def requirement_blocks(result) -> list[Block]:
             + [f"Caution: {lit(m)}. Keep that control tighter than allocated, or move the set "
                "point." for m in a.excursions]))
     return b
+
+
+def instrument_view(tab: pd.DataFrame) -> pd.DataFrame:
+    """The instrument-requirements table as the report shows it (human headers)."""
+    view = tab[["input", "quantity", "written", "allowed", "scale", "distribution", "source"]]
+    view = view.assign(scale=[f"×{two_digits(v)}" if abs(v - 1.0) > 1e-12 else "×1"
+                              for v in view["scale"]])
+    return view.rename(columns={"written": "as written", "allowed": "allowed (test plan)",
+                                "scale": "change"})
+
+
+def tolerances_frame(result) -> pd.DataFrame | None:
+    """The tolerances for the test plan as one table (tolerances.csv): each input as written,
+    what the requirements allow of it alone and in the allocation, with U (k = 2) in SI."""
+    if not result.inputs:
+        return None
+    rows = {i.name: {"input": i.name, "quantity": i.target.replace("_", " "),
+                     "perturbs": ", ".join(i.targets), "component": i.component,
+                     "distribution": i.kind, "as_written": statement(i.spec),
+                     "U_k2_written": 2.0 * i.standard_uncertainty, "unit": i.unit}
+            for i in result.inputs}
+    lim = result.input_limits
+    if lim is not None and len(lim):
+        for name, r in lim.iterrows():
+            rows[name].update(largest_alone=r["allowed"], largest_alone_scale=r["largest_scale"],
+                              largest_alone_status=r["status"])
+    a = result.allocation
+    if a is not None and a.table is not None:
+        for _, r in a.table.iterrows():
+            rows[r["input"]].update(allowed=r["allowed"], allowed_scale=r["scale"],
+                                    U_k2_allowed=r["U_k2_allowed"], source=r["source"])
+    return pd.DataFrame(list(rows.values()))
 
 
 def correlated_scaling_blocks(result) -> list[Block]:
@@ -215,7 +309,7 @@ def sweep_blocks(result) -> list[Block]:
                    f"the same {result.design_trials} trials (common random numbers), so the curves "
                    "are smooth and their differences carry little Monte Carlo noise."))
     for i, sw in enumerate(result.sweeps, start=1):
-        b.append(Block("paragraph", f"**{lit(sw.key)}**: {lit(' and '.join(sw.inputs))}, scale "
+        b.append(Block("paragraph", f"**Sweep {i}**: {lit(' and '.join(sw.inputs))}, scale "
                        f"{fmt(float(sw.scales[0][0]))} to {fmt(float(sw.scales[0][-1]))}."))
         b.append(Block("figure", f"sweep_{i}.png", caption=f"Sweep {i}: " + lit(", ".join(sw.inputs))))
         if not sw.table["physical"].all():
@@ -223,7 +317,24 @@ def sweep_blocks(result) -> list[Block]:
                            "non-physical or sonic trials (outside the similitude model): their "
                            "figures are n/a."))
         if len(sw.inputs) == 1:
-            cols = [c for c in sw.table.columns if c.startswith(("scale", "U_k2", "conformity_all",
-                                                                 "met_", "physical"))]
-            b.append(Block("table", table(sw.table[cols])))
+            b.append(Block("table", _sweep_view(sw.table)))
     return b
+
+
+def _sweep_view(tab: pd.DataFrame) -> pd.DataFrame:
+    """A 1-D sweep's table with human headers: the scale, 2u of each matched group, P(all in
+    band) in %, whether each requirement (numbered from 1) is met."""
+    view = {}
+    for c in tab.columns:
+        if c.startswith("scale"):
+            view[c.replace("scale: ", "scale of ")] = [two_digits(v) for v in tab[c]]
+        elif c.startswith("U_k2_"):
+            view[f"2u of {c[5:]}"] = [two_digits(v) if pd.notna(v) else "n/a" for v in tab[c]]
+        elif c == "conformity_all":
+            view["P(all in band)"] = [f"{100 * v:.1f} %" if pd.notna(v) else "n/a"
+                                      for v in tab[c]]
+        elif c.startswith("met_"):
+            view[f"req. {requirement_label(c[4:])} met"] = [fmt(bool(v)) for v in tab[c]]
+        elif c == "physical":
+            view["physical"] = [fmt(bool(v)) for v in tab[c]]
+    return pd.DataFrame(view)

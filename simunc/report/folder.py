@@ -45,9 +45,11 @@ MANIFEST = ".simunc.json"
 #: Every file a report may hold; those a run does not write are removed (no stale files).
 REPORT_FILES = ("report.md", "report.html", "results.json", "reynolds_ratio_histogram.png",
                 "envelope_map.png", "sobol_indices.png", "tightening.png", "samples.csv",
-                "samples.parquet")
-#: Numbered figures of a report (``sweep_1.png``, ...).
-REPORT_PATTERNS = ("sweep_*.png",)
+                "samples.parquet", "tolerances.csv")
+#: Figures named after their sweep or output (``sweep_1.png``, ``histogram_reynolds_ratio.png``,
+#: ...).  ``reynolds_ratio_histogram.png`` above is the one histogram of earlier reports: kept so
+#: that a new run recognises the stale file as its own and removes it.
+REPORT_PATTERNS = ("sweep_*.png", "histogram_*.png")
 
 _HELD: set[str] = set()   # locks this process holds (the lock is re-entrant within a process)
 

@@ -27,7 +27,8 @@ nav.toc a{display:block}details>summary{cursor:pointer}details>summary h2{displa
 
 #: Sections of the detail kind: folded (collapsible) in the HTML report.
 DETAIL_SECTIONS = ("Uncertain inputs", "Achieved groups", "Dimensional analysis",
-                   "GUM uncertainty framework", "Sensitivity", "Reproducibility")
+                   "GUM uncertainty framework", "Sensitivity", "Ranking details",
+                   "Reproducibility")
 
 
 def markdown(blocks: list[Block]) -> str:
@@ -61,8 +62,14 @@ def _inline(text: object) -> str:
 
 def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
     title = next((unmarked(b.content) for b in blocks if b.kind == "heading"), "simunc report")
-    out = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
-           f"<title>{html.escape(title)}</title><style>{_CSS}</style></head><body>"]
+    return "\n".join(["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+                      f"<title>{html.escape(title)}</title><style>{_CSS}</style></head><body>",
+                      html_body(blocks, figures), "</body></html>"]) + "\n"
+
+
+def html_body(blocks: list[Block], figures: dict[str, bytes]) -> str:
+    """The HTML of the blocks (without the page around them: a notebook cell shows it too)."""
+    out: list[str] = []
     sections = [unmarked(b.content) for b in blocks if b.kind == "heading" and b.level == 2]
     folded = False
     for b in blocks:
@@ -97,5 +104,4 @@ def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
                        f"<figcaption>{_inline(b.caption)}</figcaption></figure>")
     if folded:
         out.append("</details>")
-    out.append("</body></html>")
-    return "\n".join(out) + "\n"
+    return "\n".join(out)

@@ -6,7 +6,7 @@ import io
 import os
 from pathlib import Path
 
-from simunc.report import content, figures, render
+from simunc.report import content, decisions, figures, render
 from simunc.report.folder import check_out_dir, commit
 from simunc.report.results_json import results_json
 
@@ -23,6 +23,9 @@ def render_all(result, samples: str | None = None) -> dict[str, bytes]:
         "results.json": results_json(result).encode("utf-8"),
         **figs,
     }
+    tolerances = decisions.tolerances_frame(result)
+    if tolerances is not None:
+        files["tolerances.csv"] = tolerances.to_csv(index=False).encode("utf-8")
     if samples is not None:
         frame = result.samples()
         buf = io.BytesIO()

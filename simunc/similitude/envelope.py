@@ -6,6 +6,11 @@ temperature; liquid: speed x temperature) for a given model reference length,
 with the dynamic-pressure limit applied and states outside the fluid model
 dropped.  At each value of the abscissa the lowest and highest reachable
 Reynolds numbers bound the region.
+
+A liquid study that matches the cavitation number also gets the reachable
+cavitation-number band against the speed (:func:`cavitation_band`): the same
+model on a grid of speed x temperature x static pressure (the facility's
+static-pressure range, else its set value).
 """
 
 from __future__ import annotations
@@ -41,12 +46,39 @@ class Envelope:
         Full-scale (abscissa, Reynolds number).
     setpoint : tuple
         Set point (abscissa, Reynolds number).
+    cavitation : Cavitation or None
+        The reachable cavitation-number band against the speed (a liquid study matching the
+        cavitation number), else None.
     """
 
     abscissa: str
     x: np.ndarray
     bands: dict[str, tuple[float, np.ndarray, np.ndarray]]
     target: tuple[float, float]
+    setpoint: tuple[float, float]
+    cavitation: Cavitation | None = None
+
+
+@dataclass(frozen=True)
+class Cavitation:
+    """Reachable cavitation number against the facility speed, for one or more model sizes.
+
+    Attributes
+    ----------
+    speed : ndarray
+        Speed grid [m/s] (the model's ``speed`` output along the facility's speed range).
+    bands : dict
+        Label -> (model reference length [m], sigma_low [ndarray], sigma_high [ndarray]); NaN
+        where nothing is reachable.
+    target : float
+        Full-scale cavitation number.
+    setpoint : tuple
+        Set point (speed [m/s], cavitation number).
+    """
+
+    speed: np.ndarray
+    bands: dict[str, tuple[float, np.ndarray, np.ndarray]]
+    target: float
     setpoint: tuple[float, float]
 
 
@@ -99,19 +131,60 @@ def reynolds_band(study: Study, model: SimilitudeModel, length: float) -> tuple[
             np.asarray(out["dynamic_pressure"]) <= fac.max_dynamic_pressure)
         abscissa = np.asarray(out["froude_model"])[:, 0]
     re = np.array(out["reynolds_model"], dtype=float)
-    valid = np.ones(re.shape, dtype=bool)
+    valid = _inside_fluid(model, out, re.shape)
+    if kind == "speed":
+        valid &= ok_q
+    return (abscissa, *_low_high(re, valid))
+
+
+def _inside_fluid(model: SimilitudeModel, out, shape) -> np.ndarray:
+    """Which grid states the facility fluid's model accepts."""
     flat_p = np.asarray(out["static_pressure"]).ravel()
     flat_t = np.asarray(out["static_temperature"]).ravel()
     if model.fluid.check_state(flat_p, flat_t):  # some state is outside: find which, point by point
-        valid = np.array([model.fluid.check_state(pp, tt) is None for pp, tt in zip(flat_p, flat_t)]
-                         ).reshape(re.shape)
-    if kind == "speed":
-        valid &= ok_q
-    re[~valid] = np.nan
-    axes = tuple(range(1, re.ndim))
+        return np.array([model.fluid.check_state(pp, tt) is None for pp, tt in zip(flat_p, flat_t)]
+                        ).reshape(shape)
+    return np.ones(shape, dtype=bool)
+
+
+def _low_high(values: np.ndarray, valid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Lowest and highest valid value over every grid axis but the first."""
+    values = np.array(values, dtype=float)
+    values[~valid] = np.nan
+    axes = tuple(range(1, values.ndim))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)  # all-NaN columns: nothing reachable
-        return abscissa, np.nanmin(re, axis=axes), np.nanmax(re, axis=axes)
+        return np.nanmin(values, axis=axes), np.nanmax(values, axis=axes)
+
+
+def cavitation_band(study: Study, model: SimilitudeModel, length: float
+                    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Lowest and highest reachable cavitation number along the speed for one model length
+    (a liquid facility whose model forms the cavitation number).
+
+    The model (:class:`~simunc.similitude.model.SimilitudeModel`, which calls
+    :func:`simunc.physics.groups.cavitation_number`) on the grid speed x temperature x static
+    pressure, the last two over the facility's ranges (else their set values), with the
+    dynamic-pressure limit and the fluid model's range applied.
+
+    Returns
+    -------
+    speed, sigma_low, sigma_high : ndarray
+        Speed [m/s] and the band of the cavitation number.
+    """
+    fac = study.facility
+    _, xs, temps = _grid(study)
+    base = nominal_state(study, model.fluid)
+    base["model_length"] = length
+    pressures = np.array(fac.static_pressure_range or (base["static_pressure"],), dtype=float)
+    u, t, p = np.meshgrid(xs, temps, pressures, indexing="ij")
+    out = model(dict(base, speed=u, temperature=t, static_pressure=p))
+    sigma = np.asarray(out["cavitation_model"], dtype=float)
+    valid = _inside_fluid(model, out, sigma.shape)
+    if fac.max_dynamic_pressure:
+        valid &= np.asarray(out["dynamic_pressure"]) <= fac.max_dynamic_pressure
+    speed = np.broadcast_to(np.asarray(out["speed"], dtype=float), sigma.shape)[:, 0, 0]
+    return (np.array(speed), *_low_high(sigma, valid))
 
 
 def envelope(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> Envelope:
@@ -125,5 +198,13 @@ def envelope(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> Envelo
         _, lo2, hi2 = reynolds_band(study, model, big)
         bands[f"largest model {big * 1e3:.1f} mm"] = (big, lo2, hi2)
     o = setpoint.outputs
+    cavitation = None
+    if study.kind == "liquid" and any(b.group == "cavitation" for b in study.bands):
+        sigma = {}
+        for label, (size, _, _) in bands.items():
+            speed, s_lo, s_hi = cavitation_band(study, model, size)
+            sigma[label] = (size, s_lo, s_hi)
+        cavitation = Cavitation(speed, sigma, float(o["cavitation_full_scale"]),
+                                (float(o["speed"]), float(o["cavitation_model"])))
     return Envelope(kind, x, bands, (o[f"{kind}_full_scale"], o["reynolds_full_scale"]),
-                    (o[f"{kind}_model"], o["reynolds_model"]))
+                    (o[f"{kind}_model"], o["reynolds_model"]), cavitation)

@@ -55,11 +55,13 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import stats
 
+from simunc.constants import ZERO_CELSIUS
 from simunc.errors import StudyError
 from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import SetPoint
 from simunc.study.catalogue import TARGETS
 from simunc.study.schema import Component, InputSpec
+from simunc.study.uncertain import RTD_RANGES
 from simunc.uncertainty.distributions import (
     BOUNDED,
     bounded,
@@ -143,11 +145,22 @@ class UncertainInput:
 
 
 def resolved_size(spec: InputSpec, reading: float | None, value=None) -> float:
-    """The spec's size [SI] at a reading: ``%`` of reading resolved, the fixed part added."""
+    """The spec's size [SI] at a reading: ``%`` of reading resolved, the fixed part added, and
+    for a thermometer's accuracy the part in |t|, the reading in degrees Celsius (IEC 60751).
+
+    >>> from simunc.units import Parsed
+    >>> s = InputSpec("T0", "stagnation_temperature_indication", "rectangular", "accuracy",
+    ...               Parsed(0.0, True), 1.0, "class A", "", "uncertain[0]", fixed=0.15,
+    ...               celsius=0.002)
+    >>> round(resolved_size(s, 373.15), 6)   # IEC 60751 class A at 100 degC: +-0.35 degC
+    0.35
+    """
     parsed = spec.size if value is None else value
     size = parsed.value
     if parsed.relative and reading is not None:
         size *= abs(reading)
+    if value is None and spec.celsius and reading is not None:
+        size += spec.celsius * abs(reading - ZERO_CELSIUS)
     return size + (spec.fixed if value is None else 0.0)
 
 
@@ -196,6 +209,23 @@ def assign(spec: InputSpec, reading: float | None):
         u = size * u_per_half_width(dist, spec.beta)
         return dist, bounded(dist, size, spec.beta), u, u
     return dist, make_distribution(dist, size, beta=spec.beta), size, size  # u of the family
+
+
+def class_range_warnings(inputs) -> list[str]:
+    """One sentence per thermometer written by an IEC 60751 class whose reading at the set point
+    lies outside the temperatures the class holds over (its limits do not apply there)."""
+    out = []
+    for inp in inputs:
+        cls = inp.spec.written.rtd_class
+        if not cls or inp.reading is None:
+            continue
+        low, high = RTD_RANGES[cls]
+        t = inp.reading - ZERO_CELSIUS
+        if not low <= t <= high:
+            out.append(f"{inp.name}: IEC 60751 class {cls} holds from {low:g} °C to {high:g} °C, "
+                       f"but the reading at the set point is {t:.1f} °C: its limits do not apply "
+                       "there (write a class that holds there, or the sensor's calibration)")
+    return out
 
 
 def standard_uncertainty(spec: InputSpec, reading: float | None) -> float:

@@ -40,7 +40,7 @@ SIZE_KEYS = ("standard_uncertainty", "expanded_uncertainty", "half_width", "accu
 INPUT_KEYS = ("name", "perturbs", "distribution") + SIZE_KEYS + (
     "coverage_factor", "coverage_probability", "degrees_of_freedom", "beta", "component", "note",
     "controllable", "cost", "grades", "correction")
-ACCURACY_KEYS = ("reading", "full_scale", "range", "absolute")
+ACCURACY_KEYS = ("reading", "full_scale", "range", "absolute", "celsius", "rtd_class")
 TYPE_A_KEYS = ("mean", "standard_deviation", "count")
 CORRELATION_KEYS = ("pairs",)
 RUN_KEYS = ("trials", "seed", "coverage_probability", "sobol_base_samples", "sampling",
@@ -57,7 +57,9 @@ LIQUID_ONLY = ("speed", "speed_range", "static_pressure", "static_pressure_range
 REQUIREMENT_KEYS = ("output", "group", "expanded_uncertainty", "coverage_probability", "within",
                      "probability", "conformity", "note")
 COST_KEYS = ("at_written", "exponent")
-GRADE_KEYS = ("expanded_uncertainty", "price", "name")
+GRADE_KEYS = ("price", "name", "standard_uncertainty", "expanded_uncertainty", "half_width",
+              "accuracy", "resolution", "coverage_factor", "coverage_probability",
+              "degrees_of_freedom")
 SWEEP_KEYS = ("inputs", "scale", "points", "spacing")
 SENSITIVITY_KEYS = ("second_order", "groups", "shapley")
 DESIGN_KEYS = ("trials", "verify_trials", "largest_scale", "max_sweep_evaluations")
@@ -79,6 +81,7 @@ SECTION_KEYS: dict[str, tuple[str, ...]] = {
     "uncertain.type_a": TYPE_A_KEYS,
     "uncertain.cost": COST_KEYS,
     "uncertain.grades": GRADE_KEYS,
+    "uncertain.grades.accuracy": ACCURACY_KEYS,
     "correlations": CORRELATION_KEYS,
     "run": RUN_KEYS,
     "dimensional_analysis": DIM_KEYS,

@@ -21,6 +21,7 @@ from simunc.study.schema import (
     Measurement,
     ScaleEffect,
     Walls,
+    Written,
 )
 from simunc.study.table import Table
 from simunc.units import Parsed
@@ -317,11 +318,14 @@ def scale_inputs(m: Measurement | None, inputs: tuple[InputSpec, ...]) -> tuple[
         return (InputSpec("friction-line model form", "scale_effect_model", "rectangular",
                           "half_width", Parsed(1.0, True), 1.0,
                           f"the spread of {', '.join(se.compare)} about {se.line}", "",
-                          "measurement.scale_effect.compare"),)
+                          "measurement.scale_effect.compare",
+                          written=Written(suffix=f" × the spread of {', '.join(se.compare)} "
+                                          f"about {se.line}")),)
     return (InputSpec(f"scale-effect {se.method} model form", "scale_effect_model",
                       "rectangular", "half_width", Parsed(se.uncertainty, False), 1.0,
                       f"+-{100 * se.uncertainty:g} % of the law's change to full scale", "",
-                      "measurement.scale_effect.uncertainty"),)
+                      "measurement.scale_effect.uncertainty",
+                      written=Written(unit="%", suffix=" of the law's change to full scale")),)
 
 
 def wall_inputs(data: Any, m: Measurement | None, inputs: tuple[InputSpec, ...]
@@ -345,7 +349,8 @@ def wall_inputs(data: Any, m: Measurement | None, inputs: tuple[InputSpec, ...]
         text = str(w.data[key]) if w.has(key) else \
             f"{100 * DEFAULT_CORRECTION_UNCERTAINTY:g} % (default)"
         out.append(InputSpec(name, target, "rectangular", "half_width", Parsed(size, True), 1.0,
-                             f"{text} of the correction", "", f"measurement.walls.{key}"))
+                             f"{text} of the correction", "", f"measurement.walls.{key}",
+                             written=Written(unit="%", suffix=" of the correction")))
     return tuple(out)
 
 

@@ -7,12 +7,13 @@ frozen dataclasses holding SI floats.  The analyses that use them live in
 
 A *tolerance scale* s of an input multiplies every drawn deviation of that
 input: its distribution keeps its shape and its standard uncertainty becomes
-s u.  Costs and grades are written against the expanded uncertainty U = 2 u
-(k = 2) of the input, the figure an instrument requirement states.
+s u.  A cost model is written against the expanded uncertainty U = 2 u (k = 2) of the input;
+a grade states its size as its datasheet does (any size form of an input).
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any, cast
 
 from simunc.errors import GIVEN_LIMIT, StudyError, plain
@@ -38,7 +39,8 @@ from simunc.study.schema import (
     Sweep,
 )
 from simunc.study.table import Table, check_finite
-from simunc.units import Parsed, parse
+from simunc.study.written import statement
+from simunc.units import parse
 
 
 def _fraction(t: Table, name: str, what: str) -> float:
@@ -149,8 +151,10 @@ def _output_dimension(output: str) -> str:
     return "dimensionless"
 
 
-def cost_model(t: Table, targets: tuple) -> CostModel | None:
-    """``cost = {at_written, exponent}`` or ``grades = [{expanded_uncertainty, price}, ...]``."""
+def cost_model(t: Table, targets: tuple, read_grade: Callable[[Table], Any]
+               ) -> CostModel | None:
+    """``cost = {at_written, exponent}`` or ``grades = [{<a size as the datasheet states it>,
+    price, name}, ...]``; ``read_grade`` reads a grade's size (the input reader's own)."""
     which = t.exclusive(("cost", "grades"), required=False)
     if which is None:
         return None
@@ -164,21 +168,14 @@ def cost_model(t: Table, targets: tuple) -> CostModel | None:
     raw = t.data["grades"]
     if not isinstance(raw, list) or not raw:
         raise StudyError(t.key("grades"), raw, "a non-empty list of {expanded_uncertainty, price} "
-                         "tables")
+                         "tables (or another size form of an input, as the datasheet states it)")
     grades = []
     for j, item in enumerate(raw):
         g = Table(item, t.key(f"grades[{j}]"), GRADE_KEYS)
-        u = g.require("expanded_uncertainty", "U at k = 2 of this grade")
-        has_reading = any(TARGETS[x].reading is not None for x in targets)
-        size = parse(g.key("expanded_uncertainty"), u, TARGETS[targets[0]].dimension,
-                     allow_relative=has_reading)
-        if not has_reading:
-            size = Parsed(size.value, True)
-        check_finite(g.key("expanded_uncertainty"), u, size.value)
-        if size.value <= 0.0:
-            raise StudyError(g.key("expanded_uncertainty"), u, "an uncertainty greater than zero")
+        spec = read_grade(g)
         price = g.number("price", low=0.0, what="a price of zero or more")
-        grades.append((g.text("name", f"U = {u}"), size, price, str(u)))
+        text = statement(spec, 1.0)
+        grades.append((g.text("name", text), spec, price, text))
     return CostModel("grades", grades=tuple(grades), key=t.key("grades"))
 
 

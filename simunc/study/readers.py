@@ -69,7 +69,7 @@ from simunc.study.schema import (
 )
 from simunc.study.table import Table
 from simunc.study.uncertain import read_correlations, read_input
-from simunc.units import parse, ureg
+from simunc.units import display_units, parse, ureg
 
 
 def _fluid(t: Table, key: str, default: str | None = None) -> Fluid:
@@ -533,8 +533,19 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         model_frequency=freq, custom_groups=customs, dimensional_analysis=dim,
         correlation=correlation, requirements=requirements, sweeps=sweeps, sensitivity=sens,
         design=design, measurement=measurement, plan_requirements=plan_requirements,
-        matrix=matrix, path=path, sha256=sha256,
+        matrix=matrix, path=path, sha256=sha256, display_units=display_units(_strings(data)),
     )
+
+
+def _strings(data: Any) -> list[str]:
+    """Every text value of a study, in the order written (for its display units)."""
+    if isinstance(data, str):
+        return [data]
+    if isinstance(data, dict):
+        return [s for v in data.values() for s in _strings(v)]
+    if isinstance(data, list):
+        return [s for v in data for s in _strings(v)]
+    return []
 
 
 def _array(data: dict, key: str) -> list:

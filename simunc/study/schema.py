@@ -108,14 +108,53 @@ class CostModel:
     """Cost of an input's tolerance.
 
     ``kind = "power"``: cost(U) = ``at_written`` (U_written / U)^``exponent``.
-    ``kind = "grades"``: a list of ``(name, U [Parsed, k = 2], price)``: one is chosen.
+    ``kind = "grades"``: a list of ``(name, spec, price, text)``: one is chosen.  ``spec`` is the
+    input with the grade's size as its datasheet states it (any size form of an input, with the
+    input's distribution); ``text`` the grade as written.
     """
 
     kind: CostKind
     at_written: float = 0.0
     exponent: float = 1.0
-    grades: tuple[tuple[str, Parsed, float, str], ...] = ()
+    grades: tuple[tuple[str, InputSpec, float, str], ...] = ()
     key: str = ""
+
+
+@dataclass(frozen=True, kw_only=True)
+class Written:
+    """How an input's size was written, to state an allowed tolerance in the same form
+    (:mod:`simunc.study.written`).
+
+    Attributes
+    ----------
+    unit : str
+        Unit of the size as written (``"mm"``, ``"bar"``, ``"degC"``, ``"%"``; ``""`` for a
+        bare number); of the standard deviation for a Type A evaluation.
+    reading_unit, full_scale_unit : str
+        Accuracy: the relative units its % of reading and % of full scale were written in.
+    range_text : str
+        Accuracy: the full-scale range as written (``"10 bar"``, ``"-1 bar to 1 bar"``).
+    absolute : float
+        Accuracy: its absolute term [SI] (``fixed`` is this plus % of full scale x range).
+    absolute_unit : str
+        Unit of the absolute term as written.
+    rtd_class : str
+        Accuracy: the IEC 60751 tolerance class it was written as (``AA``, ``A``, ``B``, ``C``).
+    limit_unit : str
+        Truncated normal: unit of the truncation half-width.
+    suffix : str
+        What a size that is a fraction of something else is of (`` of the correction``).
+    """
+
+    unit: str = ""
+    reading_unit: str = "%"
+    full_scale_unit: str = "%"
+    range_text: str = ""
+    absolute: float = 0.0
+    absolute_unit: str = ""
+    rtd_class: str = ""
+    limit_unit: str = ""
+    suffix: str = ""
 
 
 @dataclass(frozen=True)
@@ -326,6 +365,10 @@ class InputSpec:
     correction: float = 0.0
     full_scale_fraction: float = 0.0  # accuracy: its % of full scale, and the range it is of [SI]
     span: float = 0.0
+    #: Accuracy: fraction of the reading in degrees Celsius, |t| (a resistance thermometer's
+    #: class, IEC 60751): adds celsius x |T - 273.15 K| to the half-width.
+    celsius: float = 0.0
+    written: Written = field(default_factory=lambda: Written())
 
     def __post_init__(self) -> None:
         if not self.targets:
@@ -551,6 +594,9 @@ class Study:
     matrix: Matrix | None = None
     path: str = ""
     sha256: str = ""
+    #: The unit the study wrote most often per dimension (pressure, temperature, length,
+    #: speed): the engineering units its report shows (:func:`simunc.units.display_units`).
+    display_units: Mapping[str, str] = field(default_factory=dict)
 
     def band(self, group: str) -> Band | None:
         return next((b for b in self.bands if b.group == group), None)

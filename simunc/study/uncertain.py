@@ -11,6 +11,7 @@ from __future__ import annotations
 import difflib
 import math
 import statistics
+from dataclasses import replace
 from typing import Any, cast
 
 import numpy as np
@@ -34,11 +35,12 @@ from simunc.study.schema import (
     SIZE_DISTRIBUTIONS,
     InputSpec,
     SizeKind,
+    Written,
 )
 from simunc.study.table import Table, check_finite
 from simunc.uncertainty.correlation import Correlation
 from simunc.uncertainty.distributions import coverage_factor, make_distribution
-from simunc.units import DIMENSIONS, Parsed, parse, to_si
+from simunc.units import DIMENSIONS, Parsed, parse, to_si, written_unit
 
 
 def _targets(t: Table, kind: str) -> tuple[str, ...]:
@@ -138,9 +140,18 @@ def _coverage_factor(t: Table, dist: str, beta: float | None) -> tuple[float, fl
     return k, nu, p
 
 
-def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str, float, float]:
-    """``accuracy``: limits +-(reading x R + full_scale x range + absolute); also the full-scale
-    fraction and the range it is of (0 and 0 without a full_scale term)."""
+#: IEC 60751:2008 tolerance classes of platinum resistance thermometers: class -> (a [K], b),
+#: limits +-(a + b |t|) with t in degrees Celsius.
+RTD_CLASSES = {"AA": (0.1, 0.0017), "A": (0.15, 0.002), "B": (0.3, 0.005), "C": (0.6, 0.01)}
+#: The temperatures [degC] over which each class holds (wire-wound resistors, IEC 60751:2008).
+RTD_RANGES = {"AA": (-50.0, 250.0), "A": (-100.0, 450.0), "B": (-196.0, 600.0),
+              "C": (-196.0, 600.0)}
+
+
+def _accuracy(t: Table, targets: tuple) -> dict[str, Any]:
+    """``accuracy``: limits +-(reading x R + full_scale x range + absolute + celsius x |t|), with
+    t the reading in degrees Celsius (or an IEC 60751 ``rtd_class``); returns the InputSpec
+    fields of the size."""
     if any(TARGETS[x].reading is None for x in targets):
         raise StudyError(t.key("accuracy"), t.data["accuracy"], "an accuracy only for an "
                          "instrument quantity with a reading (this size is itself a fraction: "
@@ -157,10 +168,24 @@ def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str, float, floa
             raise StudyError(at.key(name), raw, "a percentage of zero or more, e.g. '0.05 %'")
         return v
 
+    temperature = all(_reading_dimension(x) == "temperature" for x in targets)
+    for name in ("celsius", "rtd_class"):
+        if at.has(name) and not temperature:
+            raise StudyError(at.key(name), at.data[name], f"{name} only for a temperature "
+                             "quantity (its reading in degrees Celsius)")
+    rtd = ""
+    if at.has("rtd_class"):
+        for other in ("absolute", "celsius"):
+            if at.has(other):
+                raise StudyError(at.key(other), at.data[other], f"no {other} with rtd_class (the "
+                                 "class states both terms)")
+        rtd = at.choice("rtd_class", {k: k for k in RTD_CLASSES})
     reading, full_scale = fraction("reading"), fraction("full_scale")
+    celsius = RTD_CLASSES[rtd][1] if rtd else fraction("celsius")
     dims = {TARGETS[x].dimension for x in targets}
     words = [f"{at.data['reading']} of reading"] if at.has("reading") else []
-    fixed = span = 0.0
+    fixed = span = absolute = 0.0
+    range_text = absolute_unit = ""
     if at.has("full_scale"):
         at.require("range", "the instrument's full-scale range, e.g. '10 bar' or "
                    "['-1 bar', '1 bar'], needed with full_scale")
@@ -179,23 +204,40 @@ def _accuracy(t: Table, targets: tuple) -> tuple[Parsed, float, str, float, floa
         if not span > 0.0:
             raise StudyError(at.key("range"), raw, "a range greater than zero (high > low)")
         fixed += full_scale * span
-        words.append(f"{at.data['full_scale']} of " + (f"{raw[0]} to {raw[1]}" if isinstance(
-            raw, list) else str(raw)))
+        range_text = f"{raw[0]} to {raw[1]}" if isinstance(raw, list) else str(raw)
+        words.append(f"{at.data['full_scale']} of {range_text}")
     elif at.has("range"):
         raise StudyError(at.key("range"), at.data["range"], "a range only with full_scale")
     if at.has("absolute"):
-        absolute = _size(at, "absolute", at.data["absolute"], targets, relative=False, zero_ok=True)
-        fixed += absolute.value
+        parsed = _size(at, "absolute", at.data["absolute"], targets, relative=False, zero_ok=True)
+        absolute = parsed.value
+        absolute_unit = written_unit(at.data["absolute"])
         words.append(str(at.data["absolute"]))
+    elif rtd:
+        absolute, absolute_unit = RTD_CLASSES[rtd][0], "degC"
+    fixed += absolute
+    if celsius and not rtd:
+        words.append(f"{at.data['celsius']} of |t| in degC")
     if fixed > 0.0 and len(dims) > 1:
         raise StudyError(at.key("full_scale" if at.has("full_scale") else "absolute"),
                          at.data.get("full_scale", at.data.get("absolute")),
                          "only a % of reading when the quantities in perturbs have different "
                          "dimensions (" + ", ".join(sorted(dims)) + ")")
-    if reading == 0.0 and fixed == 0.0:
+    if reading == 0.0 and fixed == 0.0 and celsius == 0.0:
         raise StudyError(at.key("reading"), at.data or "nothing", "at least one term above zero: "
-                         "reading, full_scale (with range) or absolute")
-    return Parsed(reading, True), fixed, "±(" + " + ".join(words) + ")", full_scale, span
+                         "reading, full_scale (with range), absolute, celsius or rtd_class")
+    text = "±(" + " + ".join(words) + ")"
+    if rtd:
+        a, b = RTD_CLASSES[rtd]
+        text = f"IEC 60751 class {rtd}, ±({a:g} + {b:g}·|t|) degC" + (
+            f" + ({' + '.join(words)})" if words else "")
+    written = Written(unit="%", reading_unit=written_unit(at.data.get("reading", "")) or "%",
+                      full_scale_unit=written_unit(at.data.get("full_scale", "")) or "%",
+                      range_text=range_text, absolute=absolute, absolute_unit=absolute_unit,
+                      rtd_class=rtd)
+    return {"size": Parsed(reading, True), "fixed": fixed, "text": text,
+            "full_scale_fraction": full_scale, "span": span, "celsius": celsius,
+            "written": written}
 
 
 def _type_a(t: Table, size_kind: str, targets: tuple) -> tuple[Parsed, int, str]:
@@ -282,15 +324,66 @@ def _correction(t: Table, targets: tuple) -> float:
     return float(value.value)
 
 
-def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
-               full_scale_fluid: Fluid | None = None) -> InputSpec:
-    """One ``[[uncertain]]`` table -> :class:`InputSpec` (docs/study-file.md lists every key)."""
-    t = Table(data, f"uncertain[{index}]", INPUT_KEYS)
-    name = t.text("name", f"input {index + 1}")
-    targets = _targets(t, kind)
-    target = targets[0]
+def _sized(t: Table, size_kind: str, dist: str, beta: float | None, targets: tuple,
+           fluid: Fluid | None, full_scale_fluid: Fluid | None,
+           default_k: float | None = None) -> dict[str, Any]:
+    """The InputSpec fields of the size written in ``t`` as ``size_kind`` (shared by an input and
+    its grades); ``default_k``: k of an expanded uncertainty written without one."""
+    out: dict[str, Any] = {"size_kind": size_kind, "coverage_factor": 1.0, "dof": math.inf,
+                           "coverage_probability": None, "limit": None, "fixed": 0.0,
+                           "count": None, "full_scale_fraction": 0.0, "span": 0.0,
+                           "celsius": 0.0}
+    for k in ("coverage_factor", "coverage_probability", "degrees_of_freedom"):
+        if t.has(k) and size_kind != "expanded_uncertainty":
+            raise StudyError(t.key(k), t.data[k], f"{k} only with expanded_uncertainty")
+    if size_kind == "accuracy":
+        out.update(_accuracy(t, targets))
+    elif size_kind in ("readings", "type_a"):
+        size, count, text = _type_a(t, size_kind, targets)
+        raw = t.data[size_kind]
+        unit = written_unit(raw[0] if size_kind == "readings" and raw else
+                            raw.get("standard_deviation", "") if isinstance(raw, dict) else "")
+        out.update(size_kind="type_a", size=size, count=count, text=text,
+                   dof=float(count - 1), written=Written(unit=unit))
+    else:
+        raw = written = t.data[size_kind]
+        if raw == "stated":
+            raw = _stated(t, size_kind, raw, targets, fluid, full_scale_fluid)
+        size = _size(t, size_kind, raw, targets, relative=size_kind != "resolution")
+        text = f"stated ({raw})" if written == "stated" else str(raw)
+        if size_kind == "expanded_uncertainty":
+            if default_k is not None and not (t.has("coverage_factor")
+                                              or t.has("coverage_probability")):
+                cov_k, nu, p = default_k, math.inf, None
+            else:
+                cov_k, nu, p = _coverage_factor(t, dist, beta)
+            out.update(coverage_factor=cov_k, dof=nu, coverage_probability=p)
+            if p is not None:
+                text += f", p = {t.data['coverage_probability']}"
+            if t.has("degrees_of_freedom"):
+                text += f", ν = {t.data['degrees_of_freedom']}"
+        limit_unit = ""
+        if dist == "truncated_normal":
+            limit = _size(t, "half_width", t.data["half_width"], targets)
+            if limit.relative != size.relative and len(targets) > 1:
+                raise StudyError(t.key("half_width"), t.data["half_width"], "a half-width in % "
+                                 "when standard_uncertainty is in % and perturbs is a list (or "
+                                 "both in units)")
+            text += f", truncated at ±{t.data['half_width']}"
+            out["limit"] = limit
+            limit_unit = written_unit(t.data["half_width"])
+        out.update(size=size, text=text,
+                   written=Written(unit=written_unit(raw), limit_unit=limit_unit))
+    if dist == "lognormal" and not out["size"].relative:
+        raise StudyError(t.key(size_kind), t.data[size_kind], "a relative standard uncertainty "
+                         "such as '0.5 %' for a lognormal (multiplicative) error")
+    return out
+
+
+def _size_kind(t: Table, dist: str | None = None) -> str:
+    """Which size key ``t`` has (a truncated normal has two)."""
     present = [k for k in SIZE_KEYS if t.has(k)]
-    if t.has("distribution") and t.choice("distribution", DISTRIBUTIONS) == "truncated_normal":
+    if dist == "truncated_normal":
         for k in ("standard_uncertainty", "half_width"):
             t.require(k, "a truncated normal takes standard_uncertainty (of the normal before "
                       "truncation) and half_width (where it is truncated)")
@@ -298,25 +391,37 @@ def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
         if other:
             raise StudyError(t.key(other[0]), "with distribution 'truncated_normal'",
                              "only standard_uncertainty and half_width for a truncated normal")
-        size_kind = "standard_uncertainty"
-    else:
-        size_kind = cast(str, t.exclusive(SIZE_KEYS))  # required: never None
+        return "standard_uncertainty"
+    return cast(str, t.exclusive(SIZE_KEYS))  # required: never None
+
+
+def _distribution_hint(size_kind: str, dist: str) -> str:
+    return {"readings": "repeated readings give a t-distribution (JCGM 101:2008 6.4.9)",
+            "type_a": "repeated readings give a t-distribution (JCGM 101:2008 6.4.9)",
+            "resolution": "a digital resolution gives rectangular limits of half a digit "
+                          "(JCGM 100:2008 F.2.2.1)"}.get(size_kind) or {
+        "normal": "a normal distribution takes standard_uncertainty or expanded_uncertainty",
+        "lognormal": "a lognormal takes a relative standard uncertainty such as '0.5 %'",
+        "truncated_normal": "a truncated normal takes standard_uncertainty and half_width"
+    }.get(dist, "")
+
+
+def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
+               full_scale_fluid: Fluid | None = None) -> InputSpec:
+    """One ``[[uncertain]]`` table -> :class:`InputSpec` (docs/study-file.md lists every key)."""
+    t = Table(data, f"uncertain[{index}]", INPUT_KEYS)
+    name = t.text("name", f"input {index + 1}")
+    targets = _targets(t, kind)
+    target = targets[0]
+    truncated = t.has("distribution") and \
+        t.choice("distribution", DISTRIBUTIONS) == "truncated_normal"
+    size_kind = _size_kind(t, "truncated_normal" if truncated else None)
     allowed = SIZE_DISTRIBUTIONS[size_kind]
     dist = t.choice("distribution", DISTRIBUTIONS, default=allowed[0])
     if dist not in allowed:
-        hint = {"readings": "repeated readings give a t-distribution (JCGM 101:2008 6.4.9)",
-                "type_a": "repeated readings give a t-distribution (JCGM 101:2008 6.4.9)",
-                "resolution": "a digital resolution gives rectangular limits of half a digit "
-                              "(JCGM 100:2008 F.2.2.1)"}.get(size_kind) or {
-            "normal": "a normal distribution takes standard_uncertainty or expanded_uncertainty",
-            "lognormal": "a lognormal takes a relative standard_uncertainty such as '0.5 %'",
-            "truncated_normal": "a truncated normal takes standard_uncertainty and half_width"
-        }.get(dist, "")
         raise StudyError(t.key("distribution"), f"{dist!r} with {size_kind}",
-                         " or ".join(repr(d) for d in allowed) + f" with {size_kind}", hint)
-    for k in ("coverage_factor", "coverage_probability", "degrees_of_freedom"):
-        if t.has(k) and size_kind != "expanded_uncertainty":
-            raise StudyError(t.key(k), t.data[k], f"{k} only with expanded_uncertainty")
+                         " or ".join(repr(d) for d in allowed) + f" with {size_kind}",
+                         _distribution_hint(size_kind, dist))
     beta = None
     if dist == "trapezoidal":
         t.require("beta", "the ratio of the top to the bottom half-width of the trapezoid, 0 to 1")
@@ -326,48 +431,40 @@ def read_input(data: Any, index: int, kind: str, fluid: Fluid | None = None,
         raise StudyError(t.key("beta"), t.data["beta"], "beta only with distribution "
                          "'trapezoidal'")
     component = t.choice("component", {c: c for c in COMPONENTS}, default="systematic")
-
-    cov_k, nu, p, limit, fixed, count = 1.0, math.inf, None, None, 0.0, None
-    full_scale = span = 0.0
-    if size_kind == "accuracy":
-        size, fixed, text, full_scale, span = _accuracy(t, targets)
-    elif size_kind in ("readings", "type_a"):
-        size, count, text = _type_a(t, size_kind, targets)
-        size_kind, nu = "type_a", float(count - 1)
-    else:
-        raw = written = t.data[size_kind]
-        if raw == "stated":
-            raw = _stated(t, size_kind, raw, targets, fluid, full_scale_fluid)
-        size = _size(t, size_kind, raw, targets, relative=size_kind != "resolution")
-        text = f"stated ({raw})" if written == "stated" else str(raw)
-        if size_kind == "expanded_uncertainty":
-            cov_k, nu, p = _coverage_factor(t, dist, beta)
-            if p is not None:
-                text += f", p = {t.data['coverage_probability']}"
-            if t.has("degrees_of_freedom"):
-                text += f", ν = {t.data['degrees_of_freedom']}"
-        if dist == "truncated_normal":
-            limit = _size(t, "half_width", t.data["half_width"], targets)
-            if limit.relative != size.relative and len(targets) > 1:
-                raise StudyError(t.key("half_width"), t.data["half_width"], "a half-width in % "
-                                 "when standard_uncertainty is in % and perturbs is a list (or "
-                                 "both in units)")
-            text += f", truncated at ±{t.data['half_width']}"
-    if dist == "lognormal" and not size.relative:
-        raise StudyError(t.key(size_kind), t.data[size_kind], "a relative standard uncertainty "
-                         "such as '0.5 %' for a lognormal (multiplicative) error")
+    fields = _sized(t, size_kind, dist, beta, targets, fluid, full_scale_fluid)
+    text = fields.pop("text")
     if beta is not None:
         text += f", beta = {beta:g}"
     correction = _correction(t, targets)
     if correction:
         text += f", correction {t.data['correction']}"
-    return InputSpec(name, target, dist, cast(SizeKind, size_kind), size, cov_k, text,
+    size, size_kind = fields.pop("size"), fields.pop("size_kind")
+    cov_k = fields.pop("coverage_factor")
+    spec = InputSpec(name, target, dist, cast(SizeKind, size_kind), size, cov_k, text,
                      t.text("note", ""), t.prefix,
-                     targets=targets, component=component, dof=nu, beta=beta, limit=limit,
-                     fixed=fixed, count=count, coverage_probability=p,
-                     controllable=planning.controllable(t, targets),
-                     cost=planning.cost_model(t, targets), correction=correction,
-                     full_scale_fraction=full_scale, span=span)
+                     targets=targets, component=component, beta=beta,
+                     controllable=planning.controllable(t, targets), correction=correction,
+                     **fields)
+    cost = planning.cost_model(t, targets, lambda g: _grade(g, spec, fluid, full_scale_fluid))
+    return replace(spec, cost=cost)
+
+
+def _grade(g: Table, spec: InputSpec, fluid: Fluid | None,
+           full_scale_fluid: Fluid | None) -> InputSpec:
+    """One grade of ``spec``: its size as the datasheet states it (any size form of an input but
+    repeated readings), with the input's distribution; an expanded uncertainty without k is at
+    k = 2."""
+    size_kind = _size_kind(g, spec.distribution)
+    allowed = SIZE_DISTRIBUTIONS[size_kind]
+    if size_kind in ("readings", "type_a") or spec.distribution not in allowed:
+        takes = [k for k, d in SIZE_DISTRIBUTIONS.items()
+                 if spec.distribution in d and k not in ("readings", "type_a")]
+        raise StudyError(g.key(size_kind), g.data[size_kind], "a grade written as "
+                         + " or ".join(takes) + f" (a grade keeps the input's distribution, "
+                         f"{spec.distribution})")
+    fields = _sized(g, size_kind, spec.distribution, spec.beta, spec.targets, fluid,
+                    full_scale_fluid, default_k=2.0)
+    return replace(spec, **{k: v for k, v in fields.items()})
 
 
 def read_correlations(data: Any, names: list[str]) -> Correlation | None:

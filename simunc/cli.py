@@ -93,6 +93,7 @@ def _check(args) -> int:
     from simunc.similitude.prepared import prepare
     from simunc.study.readers import load_study
     from simunc.study.slips import likely_slips
+    from simunc.units import in_display_units
 
     study = load_study(args.study)
     sp = prepare(study).setpoint  # the set point, and every input's extremes physical
@@ -100,8 +101,14 @@ def _check(args) -> int:
     print(f"{plain(args.study)}: valid study '{plain(study.title)}' with {len(study.inputs)} "
           "uncertain inputs")
     solved = ", ".join(sp.solve_for) or "nothing"
+    def shown(value: float, si: str) -> str:
+        """A set-point value in the unit the study writes its dimension in."""
+        v, unit = in_display_units(value, si, dict(study.display_units))
+        return f"{v:.6g} {unit}"
+
     if study.kind == "gas":
-        state = (f"p0 = {o['stagnation_pressure']:.6g} Pa, T0 = {o['stagnation_temperature']:.6g} K, "
+        state = (f"p0 = {shown(o['stagnation_pressure'], 'Pa')}, "
+                 f"T0 = {shown(o['stagnation_temperature'], 'K')}, "
                  f"Mach = {o['mach_model']:.6g}" + (
                      f" (set {o['mach_uncorrected']:.6g}, corrected for the walls)"
                      if "mach_uncorrected" in o else ""))
@@ -109,8 +116,8 @@ def _check(args) -> int:
         state = (f"U = {o['speed']:.6g} m/s" + (
                      f" (set {o['speed_uncorrected']:.6g}, corrected for the walls)"
                      if "speed_uncorrected" in o else "")
-                 + f", p = {o['static_pressure']:.6g} Pa, "
-                 f"T = {o['static_temperature']:.6g} K")
+                 + f", p = {shown(o['static_pressure'], 'Pa')}, "
+                 f"T = {shown(o['static_temperature'], 'K')}")
     groups = "; ".join(f"{b.output} = {o[b.output]:.6g}" for b in study.bands)
     print(f"set point ({solved} solved, {sp.method}): {state}, model reference length = "
           f"{o['model_length']:.6g} m; {groups}; {'feasible' if sp.feasible else 'NOT feasible'}")

@@ -308,3 +308,33 @@ def to_display(value: float, dimension: str, unit: str) -> float:
     """
     out = float(ureg.Quantity(float(value), DIMENSIONS[dimension][1]).to(unit).magnitude)
     return float(f"{out:.12g}")
+
+
+#: Text of a unit as a test plan prints it.
+_PRINTED = {"degC": "°C", "degF": "°F", "delta_degC": "°C", "delta_degF": "°F", "deg": "°",
+              "degree": "°", "percent": "%", "ohm": "Ω", "micrometer": "µm", "um": "µm"}
+
+
+def unit_text(unit: str) -> str:
+    """A written unit as a test plan prints it (``degC`` -> ``°C``)."""
+    return _PRINTED.get(unit.strip(), unit.strip())
+
+
+#: SI units of the values shown in the study's own units, and their dimensions.
+SI_DIMENSION = {"Pa": "pressure", "K": "temperature", "m": "length", "m/s": "speed"}
+
+
+def in_display_units(value: float, si_unit: str, shown: dict) -> tuple[float, str]:
+    """An SI value (an absolute temperature for K) in the unit ``shown`` holds for its
+    dimension (a study's :func:`display_units`), with the unit's text; as it is otherwise.
+
+    >>> in_display_units(746421.0, "Pa", {"pressure": "bar"})
+    (7.46421, 'bar')
+    >>> in_display_units(291.15, "K", {"temperature": "degC"})
+    (18.0, '°C')
+    """
+    dim = SI_DIMENSION.get(si_unit)
+    unit = shown.get(dim) if dim else None
+    if not dim or not unit or unit == si_unit:
+        return value, si_unit
+    return to_display(value, dim, unit), unit_text(unit)

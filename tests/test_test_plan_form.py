@@ -298,3 +298,53 @@ def test_class_outside_its_range_is_warned():
         assert bool(out) == warned
         if warned:
             assert "-100 °C to 450 °C" in out[0] and "-167.0 °C" in out[0]
+
+
+@pytest.mark.slow
+def test_allocation_that_trades_the_match_away_is_reported():
+    """Requirements on the Reynolds ratio alone let the allocation loosen the Mach calibration;
+    P(every group in band) at the allocation is then checked against the normal approximation
+    of the Mach-number difference from the GUM law of propagation (JCGM 100:2008, eq. 13, with
+    the correlation term; the Mach difference is linear in its inputs to first order), times the
+    Reynolds band's own probability."""
+    from scipy import stats
+
+    data = _demo()
+    data["requirement"] = [{"group": "reynolds", "expanded_uncertainty": "1.5 %"}]
+    data["sweep"] = []
+    study = replace(parse_study(data), design=DesignSettings(20_000, 60_000, 100.0))
+    result = simunc.run(study, trials=40_000, seed=3)
+    a = result.allocation
+    assert a is not None and a.verified
+    bud = result.lpu.budget("mach_difference")
+    c = {name: row["sensitivity"] for name, row in bud[bud["kind"] == "input"].iterrows()}
+    s = {i.name: float(v) for i, v in zip(result.inputs, a.scale)}
+    u = {i.name: i.standard_uncertainty for i in result.inputs}
+    var = sum((c[n] * u[n] * s[n]) ** 2 for n in c)
+    corr = study.correlation
+    for i, ni in enumerate(corr.names):
+        for j, nj in enumerate(corr.names):
+            if i < j:
+                var += 2 * corr.matrix[i, j] * c[ni] * c[nj] * u[ni] * u[nj] * s[ni] * s[nj]
+    p_mach = 2 * stats.norm.cdf(0.002 / math.sqrt(var)) - 1           # band +-0.002
+    assert a.conformity == pytest.approx(p_mach * result.conformity["reynolds"], abs=0.02)
+    assert a.conformity < 0.9 < result.conformity["all"]
+    from simunc.report.content import verdict_lines
+    warning = next(line for line in verdict_lines(result) if "no requirement holds the match"
+                   in line)
+    assert f"P = {100 * a.conformity:.1f} %" in warning
+
+
+def test_percent_of_a_temperature_reading_is_warned_and_class_case_is_free():
+    """A % of reading on a thermometer is a % of kelvin (IEC 60751 states classes in degC):
+    a likely slip, warned; ``rtd_class = "a"`` is class A."""
+    from simunc.study.slips import likely_slips
+
+    data = _demo(**{"T0 thermometer": {"name": "T0 thermometer",
+                                       "perturbs": "stagnation_temperature_indication",
+                                       "accuracy": {"reading": "0.2 %"}}})
+    slips = likely_slips(parse_study(data))
+    assert any("uncertain[4].accuracy.reading" in m and "0.6 K" in m for m in slips)
+    spec = read_input({"name": "T0", "perturbs": "stagnation_temperature_indication",
+                       "accuracy": {"rtd_class": "a"}}, 0, "gas")
+    assert resolved_size(spec, ZERO_C + 100.0) == pytest.approx(0.35)   # class A at 100 degC

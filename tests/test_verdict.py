@@ -47,7 +47,8 @@ def test_verdict_comes_first_and_quotes_every_requirement(result):
     assert f"{sum(c.met for c in checks)} of {len(checks)} met" in " ".join(lines)
     for c in checks:
         line = next(x for x in lines if c.text in x)
-        assert line.startswith("met" if c.met else "NOT met")
+        number = int(c.key.split("[")[1].rstrip("]")) + 1     # numbered from 1, as in the file
+        assert line.startswith(f"Requirement {number} " + ("met" if c.met else "NOT met"))
         if c.output == "drag_coefficient":
             counts = re.search(r"achieved U = ([0-9.]+) counts", line).group(1)
             assert float(counts) == pytest.approx(c.value / 1e-4, rel=0.05)

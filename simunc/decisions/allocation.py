@@ -250,6 +250,9 @@ class Allocation:
     #: balances that were no candidate (why).
     balance: str = ""
     excluded_balances: tuple[str, ...] = ()
+    #: P(every matched group in its band) in the fresh run at the allocation (NaN without one):
+    #: an allocation meets the requirements, which need not hold the match.
+    conformity: float = math.nan
 
     @property
     def verified(self) -> bool:
@@ -413,11 +416,13 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
     ok = bool(np.all(np.isfinite(scale)))
     design_checks = design.figures(scale, margin=False).requirements if ok else []
     verification = loosened = []
+    conformity = math.nan
     vd = None
     table = None
     if ok:
         vd = verify_design_factory()
-        verification = vd.figures(scale).requirements
+        fig = vd.figures(scale)
+        verification, conformity = fig.requirements, float(fig.conformity.get("all", math.nan))
         looser = scale.copy()
         looser[idx] *= LOOSEN
         loosened = vd.figures(looser).requirements
@@ -433,7 +438,8 @@ def allocate(design, inputs, sensitivities: pd.DataFrame, covariance: np.ndarray
     return Allocation(kind, scale, cost, cost_written, grades, table, design_checks, verification,
                       loosened, vd.trials if vd else 0, vd.seed if vd else 0, rounds, message,
                       note, excursions, balance=chosen_balance,
-                      excluded_balances=balance.excluded if balance else ())
+                      excluded_balances=balance.excluded if balance else (),
+                      conformity=conformity)
 
 
 def _relax(design, scale: np.ndarray, idx, inputs, largest: float) -> np.ndarray:

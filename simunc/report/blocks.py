@@ -9,8 +9,8 @@ import pandas as pd
 
 from simunc.report.text import two_digits
 from simunc.study.catalogue import EXTRAPOLATED_OUTPUT, describe_output
-from simunc.study.written import unit_text
-from simunc.units import to_display
+from simunc.study.planning import output_dimension
+from simunc.units import SI_DIMENSION, from_si, in_display_units, to_display, unit_text
 
 
 @dataclass(frozen=True)
@@ -45,28 +45,41 @@ def table(df: pd.DataFrame) -> pd.DataFrame:
     return df.map(fmt)
 
 
+def _near(value: float, limit: float) -> str:
+    """``value`` to two significant digits, or three when two would read as the limit."""
+    text = two_digits(value)
+    return text if value == limit or text != two_digits(limit) else f"{float(value):#.3g}"
+
+
 def achieved(c, study) -> str:
     """A requirement's achieved value as the test plan writes it: U in counts for the drag, in
-    % where the limit is a %, two significant digits (JCGM 100 7.2.6), a probability in %."""
+    % where the limit is a %, in the unit the limit was written in (mbar, K), two significant
+    digits (JCGM 100 7.2.6; three where two would read as the limit), a probability in %."""
     if c.kind != "expanded_uncertainty":
-        return f"P = {100 * c.value:.1f} %"
-    r = next((r for r in study.requirements if r.key == c.key), None)
+        p = 100 * c.value
+        if p > 99.95 and c.value < 1.0:
+            return "P > 99.9 %"
+        text = f"{p:.1f}"
+        return f"P = {text if text != f'{100 * c.limit:.1f}' or p == 100 * c.limit else f'{p:.2f}'} %"
+    r = next((r for r in study.requirements + study.plan_requirements if r.key == c.key), None)
     if r is not None and r.relative and c.limit > 0:
-        return f"U = {two_digits(100 * c.value * r.limit / c.limit)} %"
+        scale = 100 * r.limit / c.limit
+        return f"U = {_near(c.value * scale, c.limit * scale)} %"
     if c.output in ("drag_coefficient", EXTRAPOLATED_OUTPUT):
-        return f"U = {two_digits(c.value / 1e-4)} counts"
+        return f"U = {_near(c.value / 1e-4, c.limit / 1e-4)} counts"
+    if r is not None and r.unit and r.output:
+        dim = output_dimension(r.output)
+        if dim != "dimensionless":
+            return (f"U = {_near(from_si(c.value, dim, r.unit), from_si(c.limit, dim, r.unit))} "
+                    f"{unit_text(r.unit)}")
     unit = describe_output(c.output)[0] if c.output else ""
-    return f"U = {two_digits(c.value)}" + (f" {unit}" if unit and unit != "1" else "")
+    return f"U = {_near(c.value, c.limit)}" + (f" {unit}" if unit and unit != "1" else "")
 
 
 def requirement_label(key: str) -> str:
     """``requirement[0]`` -> ``1``: requirements are numbered from 1 in the report."""
     head, _, rest = key.partition("[")
     return str(int(rest.rstrip("]")) + 1) if rest.rstrip("]").isdigit() else key
-
-
-#: SI units of values a report shows in the study's own units, and their dimensions.
-_SI_DIMENSION = {"Pa": "pressure", "K": "temperature", "m": "length", "m/s": "speed"}
 
 
 def engineering(rows, study, columns=(1,), unit_column=2, skip=()) -> list[tuple]:
@@ -76,12 +89,33 @@ def engineering(rows, study, columns=(1,), unit_column=2, skip=()) -> list[tuple
     out = []
     for row in rows:
         row = list(row)
-        dim = _SI_DIMENSION.get(row[unit_column])
-        shown = study.display_units.get(dim) if dim else None
-        if dim and shown and shown != row[unit_column] and row[0] not in skip:
+        si = row[unit_column]
+        if row[0] not in skip:
             for c in columns:
                 if isinstance(row[c], (float, int, np.floating)) and not isinstance(row[c], bool):
-                    row[c] = to_display(float(row[c]), dim, shown)
-            row[unit_column] = unit_text(shown)
+                    row[c], row[unit_column] = in_display_units(float(row[c]), si,
+                                                                dict(study.display_units))
         out.append(tuple(row))
     return out
+
+
+def displayed(values, unit: str, study) -> tuple[list[float], str]:
+    """A value, its u and its interval ends (``values``: value, u, low, high, SI) in the unit the
+    study writes that dimension in; the u is a difference (no offset of a Celsius scale)."""
+    dim = SI_DIMENSION.get(unit)
+    shown = study.display_units.get(dim) if dim else None
+    if not dim or not shown or shown == unit:
+        return list(values), unit
+    value, u, *ends = values
+    return ([to_display(value, dim, shown), from_si(u, "temperature_difference" if dim ==
+                                                   "temperature" else dim, shown)]
+            + [to_display(v, dim, shown) for v in ends]), unit_text(shown)
+
+
+def cost_text(v: float) -> str:
+    """A cost as a price list writes it: whole units, thousands apart.
+
+    >>> cost_text(8781.12), cost_text(12000.0), cost_text(37.5)
+    ('8 781', '12 000', '37.5')
+    """
+    return f"{v:,.0f}".replace(",", " ") if abs(v) >= 100 else f"{v:.3g}"

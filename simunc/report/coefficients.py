@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from simunc.decisions.coefficients import LOAD_CAUTION
-from simunc.report.blocks import Block, table
+from simunc.report.blocks import Block, requirement_label, table
 from simunc.report.text import lit, two_digits
 from simunc.units import COUNT
 
@@ -40,8 +40,9 @@ def extrapolation_lines(result) -> list[str]:
     lines = [f"Drag extrapolated from the split-test plan to full-scale Re (ratio {e.ratio:.3g}, "
              f"{lit(e.law)}): U ({pe}) = {two_digits(e.U_counts)} counts about the true value."]
     for c in e.checks:
-        lines.append(f"Requirement {lit(c.text)}: {'met' if c.met else '**NOT met**'} by the plan as "
-                     f"made (U = {two_digits(c.value / COUNT)} counts)." + (
+        lines.append(f"Requirement {requirement_label(c.key)} "
+                     f"{'met' if c.met else '**NOT met**'} by the plan as made: {lit(c.text)} — "
+                     f"achieved U = {two_digits(c.value / COUNT)} counts." + (
                          "" if c.met or e.runs_for is None else " " + _runs_for_text(e.runs_for)))
     return lines
 

@@ -9,7 +9,15 @@ import pandas as pd
 
 from simunc import __version__
 from simunc.report import coefficients, decisions, matrix
-from simunc.report.blocks import Block, achieved, engineering, fmt, requirement_label
+from simunc.report.blocks import (
+    Block,
+    achieved,
+    cost_text,
+    displayed,
+    engineering,
+    fmt,
+    requirement_label,
+)
 from simunc.report.blocks import table as _table
 from simunc.report.figures import histogram_files
 from simunc.report.text import lit, two_digits, with_uncertainty
@@ -40,6 +48,11 @@ def _property_scope(targets) -> str:
     return "the facility state only" if fac else ("the full-scale state only" if full else "")
 
 
+def _small(v: float) -> float:
+    """A value that is zero but for rounding (a matched difference of 1e-16) as 0."""
+    return 0.0 if abs(v) < 1e-12 else v
+
+
 def _state_line(st, o) -> str:
     scale = st.full_scale.reference_length / o["model_length"]
     model = f"model reference length {o['model_length'] * 1e3:.2f} mm (scale 1:{scale:.4g})"
@@ -48,32 +61,11 @@ def _state_line(st, o) -> str:
                  if "mach_uncorrected" in o else "")
         return (f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation "
                 f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}"
-                f"{walls} (U = {o['speed']:.4g} m/s), {model}.")
+                f"{walls} (speed {o['speed']:.4g} m/s), {model}.")
     if "speed_uncorrected" in o:
         model += f"; the speed set to {o['speed_uncorrected']:.4g} m/s, corrected for the walls"
     return (f"Speed {o['speed']:.4g} m/s, static pressure {o['static_pressure'] / 1e3:.4g} kPa, "
             f"temperature {o['static_temperature']:.2f} K, {model}.")
-
-
-def _first_to_tighten(result, sp) -> list[str]:
-    t = result.tightening
-    if not sp.feasible or t is None or not len(t) or not t["controllable"].any():
-        return []
-    name = t[t["controllable"]].index[0]
-    line = [f"Input to control more tightly first: {lit(name)} ({lit(t.loc[name, 'perturbs'])})."]
-    scope = " (the study's own point)" if result.matrix is not None else ""
-    if result.requirement_checks is not None:
-        bad = [f"{requirement_label(c.key)} ({lit(c.text)})" for c in result.requirement_checks
-               if not c.met]
-        line.append(f"Requirements at the written tolerances{scope}: " + (
-            "all met." if not bad else f"not met: {'; '.join(bad)}."))
-    if result.allocation is not None:
-        a = result.allocation
-        line.append(f"No allocation meets the requirements{scope}: {lit(a.message)}."
-                    if a.message else
-                    f"Allocation meeting every requirement{scope}: cost {fmt(a.cost)}; fresh Monte Carlo "
-                    f"check {'passed' if a.verified else 'FAILED'} (see the requirements section).")
-    return line
 
 
 #: The state of a planned run shown in the split-test plan, with its SI unit.
@@ -92,14 +84,17 @@ def verdict_lines(result) -> list[str]:
               "point is analysed (see the split-test plan and the facility limits)."),
              f"Probability that every matched group stays in its band: "
              f"**{100 * result.conformity['all']:.1f} %** ({result.trials} trials)."]
+    lines.insert(1, "Set point: " + _state_line(st, sp.outputs)[0].lower()
+                 + _state_line(st, sp.outputs)[1:])
     if not sp.feasible and sp.messages:
-        lines.insert(1, lit(sp.messages[0].rstrip(".")) + ".")
+        lines.insert(2, lit(sp.messages[0].rstrip(".")) + ".")
     if result.requirement_checks is not None:
         met = sum(c.met for c in result.requirement_checks)
         lines.append(f"Requirements at the written tolerances: **{met} of "
                      f"{len(result.requirement_checks)} met**.")
         for c in result.requirement_checks:
-            lines.append(f"{'met' if c.met else '**NOT met**'}: {lit(c.text)} — achieved "
+            lines.append(f"Requirement {requirement_label(c.key)} "
+                         f"{'met' if c.met else '**NOT met**'}: {lit(c.text)} — achieved "
                          f"{achieved(c, st)}.")
     if st.plan_requirements:   # judged on the runs of the split-test plan, not on one point
         lines += coefficients.extrapolation_lines(result)
@@ -113,9 +108,33 @@ def verdict_lines(result) -> list[str]:
     a = result.allocation
     if a is not None:
         lines.append(f"No allocation meets the requirements: {lit(a.message)}." if a.message
-                     else f"Least-cost allocation: cost **{fmt(a.cost)}**, fresh Monte Carlo "
-                     f"check {'passed' if a.verified else 'FAILED'}.")
-    return lines + [f"Warning: {lit(w)}" for w in result.warnings]
+                     else _allocation_line(result, a))
+        if not a.message and st.bands and a.conformity < min(0.95, result.conformity["all"]) \
+                and not any(r.kind == "conformity" for r in st.requirements):
+            lines.append(f"**Warning**: at the allocation every matched group stays in its band "
+                         f"with P = {100 * a.conformity:.1f} % only ({100 * result.conformity['all']:.1f} "
+                         "% as written): no requirement holds the match. Add a requirement "
+                         "`conformity = \"95 %\"` to keep it.")
+    # the correlation note concerns the Sobol indices of the appendix, not the verdict
+    return lines + [f"Warning: {lit(w)}" for w in result.warnings
+                    if not w.startswith("The study correlates inputs")]
+
+
+def _allocation_line(result, a) -> str:
+    """The allocation in one line: its cost (and the written one), what it changes."""
+    cost = f"cost **{cost_text(a.cost)}**" + (
+        f" (as written {cost_text(a.cost_written)})" if a.cost_written is not None else "")
+    changed = []
+    if a.table is not None:
+        for _, r in a.table.iterrows():
+            if r["source"] != "as written" and not (r["source"].startswith("grade")
+                                                    and abs(r["scale"] - 1.0) < 1e-12):
+                changed.append(f"{lit(r['input'])} {lit(r['allowed'])}"
+                               + (f" ({lit(r['source'])})" if r["source"] != "allocated" else ""))
+    return (f"Least-cost allocation: {cost}, fresh Monte Carlo check "
+            f"{'passed' if a.verified else 'FAILED'}"
+            + (f"; it asks for {'; '.join(changed[:4])}" + ("; …" if len(changed) > 4 else "")
+               if changed else "") + ".")
 
 
 def build(result) -> list[Block]:
@@ -135,15 +154,16 @@ def build(result) -> list[Block]:
         f"Set point ({solved} solved, {sp.method}): {verdict}.",
         _state_line(st, o),
         "Matched groups at the set point: " + "; ".join(
-            f"{lit(band.output)} = {o[band.output]:.5g}" for band in st.bands) + ".",
+            f"{lit(band.output)} = {_small(o[band.output]):.5g}" for band in st.bands) + ".",
         f"Probability that every matched group lies inside its tolerance band: "
         f"{100 * conf['all']:.2f} % ({result.trials} trials).",
-    ] + coefficients.summary_lines(result) + coefficients.extrapolation_lines(result)
-        + matrix.summary_lines(result)
-        + _first_to_tighten(result, sp)
+    ] + coefficients.summary_lines(result)
+        + ([] if st.plan_requirements else coefficients.extrapolation_lines(result))
+        + matrix.summary_lines(result)[:1]
         + (["Tighter tolerances cannot make up the set point's shortfall; see the split-test plan "
             "and the facility limits."] if not sp.feasible else [])
-        + [f"Warning: {lit(w)}" for w in result.warnings])]
+        + [f"Note: {lit(w)}" for w in result.warnings
+           if w.startswith("The study correlates inputs")])]
 
     b.append(Block("heading", "Full-scale condition"))
     rows = [("fluid", fs.fluid.name, ""),
@@ -282,14 +302,17 @@ def build(result) -> list[Block]:
         key_rows = []
         for k in keys:
             r = result.statistics.loc[k]
-            mean, u = with_uncertainty(float(r["mean"]), float(r["standard_uncertainty"]))
-            low, high = (with_uncertainty(float(r[c]), float(r["standard_uncertainty"]))[0]
-                         for c in ("low", "high"))
-            key_rows.append((describe_output(k)[1], r["unit"], mean, u, f"[{low}, {high}]"))
+            (mean_v, u_v, low_v, high_v), unit = displayed(
+                [float(r["mean"]), float(r["standard_uncertainty"]), float(r["low"]),
+                 float(r["high"])], r["unit"], st)
+            mean, u = with_uncertainty(mean_v, u_v)
+            low, high = (with_uncertainty(v, u_v)[0] for v in (low_v, high_v))
+            key_rows.append((describe_output(k)[1], unit, mean, u, f"[{low}, {high}]"))
         b.append(Block("paragraph", f"The matched groups, the outputs a requirement limits and "
                        f"the measured coefficients: mean and standard uncertainty u rounded as "
                        f"JCGM 100 7.2.6 asks (u to two digits), and the {p:g} % coverage "
-                       "interval. Every output is in the next section. Throughout the report U "
+                       "interval. Every output is in the report's section of achieved groups "
+                       "and flow quantities. Throughout the report U "
                        f"is the expanded uncertainty, the half-length of the probabilistically "
                        f"symmetric {p:g} % coverage interval (JCGM 101, 7.7), and 2u twice the "
                        "standard uncertainty; a certificate's U is at the k it states."))
@@ -367,8 +390,8 @@ def build(result) -> list[Block]:
     if result.inputs:
         b += decisions.tightening_blocks(result)
         b += decisions.requirement_blocks(result)
-        b += decisions.sweep_blocks(result)
         b += decisions.correlated_scaling_blocks(result)
+        b += decisions.sweep_blocks(result)
         b += decisions.sensitivity_blocks(result)
         b += decisions.ranking_detail_blocks(result)
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from simunc.decisions.requirements import LOOSEN
-from simunc.report.blocks import Block, achieved, fmt, requirement_label, table
+from simunc.report.blocks import Block, achieved, cost_text, fmt, requirement_label, table
 from simunc.report.text import lit, two_digits
 from simunc.study.written import statement
 
@@ -130,8 +130,9 @@ def tightening_blocks(result) -> list[Block]:
                        "follow — a tighter tolerance there means better data, not a better "
                        "facility."))
         b.append(Block("table", ranking_table(result)))
-        worse = [n for n in t.index if any(t.loc[n, f"delta_U_k2_{band.output}"] > 0
-                                          for band in st.bands)]
+        # a rise above the noise of the common-random-number difference (0.1 % of the band)
+        worse = [n for n in t.index if any(t.loc[n, f"delta_U_k2_{band.output}"]
+                                          > 1e-3 * band.tolerance for band in st.bands)]
         if worse and st.correlation is not None:
             b.append(Block("paragraph", "Halving the tolerance of " + lit(", ".join(worse)) + " alone "
                            "raises U of some group: correlated errors partly cancel (for instance "
@@ -205,6 +206,9 @@ def requirement_blocks(result) -> list[Block]:
                        "alone meets every requirement (the others break one); 'not limiting': "
                        f"met up to {ds.largest_scale:g} times the written tolerance."))
         lim_tab = lim.reset_index()[["input", "status", "written", "allowed", "largest_scale"]]
+        lim_tab = lim_tab.assign(largest_scale=[f"×{v:.3g}" if pd.notna(v) else "—"
+                                                for v in lim_tab["largest_scale"]],
+                                 allowed=[v or "—" for v in lim_tab["allowed"]])
         b.append(Block("table", table(lim_tab.rename(columns={
             "written": "as written", "allowed": "largest alone (same form)",
             "largest_scale": "× written"}))))
@@ -225,10 +229,17 @@ def requirement_blocks(result) -> list[Block]:
                f"(GUM sensitivities, calibrated on the design sample; rounds: {a.rounds})"
                if a.kind == "power" else f"instrument grades, cheapest combination that meets "
                f"the requirements ({a.rounds} combinations checked on the design sample)")
-        extra = f" (as written: {fmt(a.cost_written)})" if a.cost_written is not None else ""
-        b.append(Block("paragraph", f"Method: {how}. Total cost {fmt(a.cost)}{extra}."))
+        extra = f" (as written: {cost_text(a.cost_written)})" if a.cost_written is not None else ""
+        b.append(Block("paragraph", f"Method: {how}. Total cost {cost_text(a.cost)}{extra}."))
         if a.note:
             b.append(Block("paragraph", f"Note: {lit(a.note)}."))
+        if st.bands and pd.notna(a.conformity):
+            b.append(Block("paragraph", "Probability that every matched group stays in its band "
+                           f"at the allocation: {100 * a.conformity:.1f} % "
+                           f"({100 * result.conformity['all']:.1f} % as written)"
+                           + ("" if any(r.kind == "conformity" for r in st.requirements) else
+                              "; no requirement holds it, so the allocation may trade the match "
+                              "away (add a conformity requirement to keep it)") + "."))
         b.append(Block("paragraph", f"Verification by a fresh Monte Carlo run ({a.verify_trials} "
                        f"trials, independent seed stream): **{'every requirement met' if a.verified else 'NOT every requirement met'}**. "
                        f"With every allocated tolerance loosened by {100 * (LOOSEN - 1):.0f} %: "
@@ -263,7 +274,7 @@ def requirement_blocks(result) -> list[Block]:
 def instrument_view(tab: pd.DataFrame) -> pd.DataFrame:
     """The instrument-requirements table as the report shows it (human headers)."""
     view = tab[["input", "quantity", "written", "allowed", "scale", "distribution", "source"]]
-    view = view.assign(scale=[f"×{two_digits(v)}" if abs(v - 1.0) > 1e-12 else "×1"
+    view = view.assign(scale=[f"×{v:.3g}" if abs(v - 1.0) > 1e-12 else "×1"
                               for v in view["scale"]])
     return view.rename(columns={"written": "as written", "allowed": "allowed (test plan)",
                                 "scale": "change"})

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from simunc.report.blocks import Block, table
+from simunc.report.blocks import Block, cost_text, table
 from simunc.report.text import lit, two_digits
 
 
@@ -35,7 +35,7 @@ def summary_lines(result) -> list[str]:
             met = int(wd.checks["all_met"].sum()) if wd.checks is not None else 0
             dm, dn = wd.derived_met
             lines.append(f"Allocation at the hardest matrix point {wd.point + 1} "
-                         f"({lit(wd.label)}): cost {a.cost:.6g}; with it every requirement "
+                         f"({lit(wd.label)}): cost {cost_text(a.cost)}; with it every requirement "
                          f"holds at {met} of {len(wd.checks) if wd.checks is not None else 0} "
                          "points" + (f", and {dm} of {dn} increments and slopes stay within "
                                      "their limits" if dn else "") + ".")
@@ -91,7 +91,7 @@ def matrix_blocks(result) -> list[Block]:
         if a is not None and a.message:
             b.append(Block("paragraph", f"No allocation meets them there: {lit(a.message)}."))
         elif a is not None:
-            b.append(Block("paragraph", f"Least-cost allocation there: cost {a.cost:.6g} "
+            b.append(Block("paragraph", f"Least-cost allocation there: cost {cost_text(a.cost)} "
                            f"(fresh check at that point {'passed' if a.verified else 'FAILED'}); "
                            "the matrix run again with the allocated tolerances (the same draws) "
                            "gives at each point:"))

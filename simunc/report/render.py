@@ -16,13 +16,16 @@ if TYPE_CHECKING:
 _CSS = """
 body{font-family:system-ui,-apple-system,Segoe UI,sans-serif;max-width:1000px;margin:2em auto;
 padding:0 1em;color:#222;line-height:1.45}
-h1{border-bottom:2px solid #4a78a8;padding-bottom:.2em}h2{margin-top:1.6em;color:#2c4f73}
+h1{border-bottom:2px solid #4a78a8;padding-bottom:.2em;font-size:1.6em;margin:.3em 0}
+h2{margin-top:1.6em;color:#2c4f73}
 table{border-collapse:collapse;margin:.6em 0;font-size:.9em}
 th,td{border:1px solid #ccc;padding:.25em .6em;text-align:right}th{background:#eef3f8}
 td:first-child,th:first-child{text-align:left}
 td{font-variant-numeric:tabular-nums}img{max-width:100%}figcaption{font-size:.85em;color:#555}
-.wide{max-width:100%;overflow-x:auto}nav.toc{font-size:.9em;columns:2;margin:1em 0}
-nav.toc a{display:block}details>summary{cursor:pointer}details>summary h2{display:inline}
+.wide{max-width:100%;overflow-x:auto}nav.toc{font-size:.85em;margin:.6em 0;line-height:1.6}
+nav.toc a{display:inline-block;margin-right:1.2em;white-space:nowrap}
+details>summary{cursor:pointer}details>summary h2{display:inline}
+h2#s1{margin-top:.8em}ul{margin:.4em 0}li{margin:.1em 0}
 """
 
 #: Sections of the detail kind: folded (collapsible) in the HTML report.

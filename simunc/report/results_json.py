@@ -47,6 +47,7 @@ def _requirements(result):
             "excluded_balances": list(a.excluded_balances),
             "verified": a.verified if not a.message else False,
             "fails_when_loosened": a.fails_loosened if not a.message else None,
+            "conformity_all": None if a.message else a.conformity,
             "design": [_check(c) for c in a.design_checks],
             "verification": None if not a.verification else {
                 "trials": a.verify_trials, "seed": a.verify_seed,

@@ -14,6 +14,7 @@ a grade states its size as its datasheet does (any size form of an input).
 from __future__ import annotations
 
 from collections.abc import Callable
+from dataclasses import replace
 from typing import Any, cast
 
 from simunc.errors import GIVEN_LIMIT, StudyError, plain
@@ -40,7 +41,7 @@ from simunc.study.schema import (
 )
 from simunc.study.table import Table, check_finite
 from simunc.study.written import statement
-from simunc.units import parse
+from simunc.units import parse, written_unit
 
 
 def _fraction(t: Table, name: str, what: str) -> float:
@@ -85,9 +86,8 @@ def requirement(data: Any, index: int, bands, outputs, extrapolated: bool = Fals
         output = t.choice("output", {k: k for k in outputs})
     note = t.text("note", "")
     req = _requirement(t, kind, groups, output, note)
-    return req if not note else Requirement(req.key, req.kind, req.output, req.groups, req.limit,
-                                            req.relative, req.probability,
-                                            f"{req.text} ({note})", note)
+    unit = written_unit(t.data.get(kind)) if kind != "conformity" else ""
+    return replace(req, text=f"{req.text} ({note})" if note else req.text, unit=unit)
 
 
 def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: str) -> Requirement:
@@ -109,7 +109,7 @@ def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: st
         t.require("output", "the output (or group) the requirement is on")
     nominal_zero = output.endswith("_difference") or output == EXTRAPOLATED_OUTPUT
     raw = t.data[kind]
-    size = parse(t.key(kind), raw, _output_dimension(output), allow_relative=True)
+    size = parse(t.key(kind), raw, output_dimension(output), allow_relative=True)
     if size.relative and nominal_zero:
         raise StudyError(t.key(kind), raw, f"a plain number for {output} (its set-point value is "
                          "zero, so a % of it means nothing)" if output != EXTRAPOLATED_OUTPUT
@@ -137,11 +137,15 @@ def _requirement(t: Table, kind: RequirementKind, groups: dict, output, note: st
                          "probability with within")
     t.require("probability", "the probability that the output stays within the limit, e.g. '95 %'")
     p = _fraction(t, "probability", "a probability above 0 and below 1 such as '95 %'")
+    band = next((b for b in groups.values() if b.output == output), None)
+    about = " - set-point value" if band is None else (
+        "" if band.centre == 0.0 else f" - {band.centre:g}")
     return Requirement(t.prefix, kind, output, (), size.value, size.relative, p,
-                       f"P(|{output} - centre| <= {raw}) >= {t.data['probability']}", note)
+                       f"P(|{output}{about}| <= {raw}) >= {t.data['probability']}", note)
 
 
-def _output_dimension(output: str) -> str:
+def output_dimension(output: str) -> str:
+    """The dimension of a limit on ``output`` (a temperature limit is a difference)."""
     from simunc.study.catalogue import describe_output
     from simunc.units import DIMENSIONS
     unit = describe_output(output)[0]

@@ -101,6 +101,8 @@ class Requirement:
     probability: float
     text: str
     note: str = ""
+    #: The unit the limit was written in ("mbar", "counts"; "" for a plain number or a %).
+    unit: str = ""
 
 
 @dataclass(frozen=True)

@@ -40,6 +40,19 @@ def likely_slips(study: Study) -> tuple[str, ...]:
             out.append(f"{key} = {written} is a fraction ({100 * b.tolerance:.3g} % of the "
                        f"full-scale value): did you mean '{written} %'?")
     for spec in study.inputs:
+        temperature = all(TARGETS[t].dimension == "temperature_difference"
+                          and TARGETS[t].reading is not None for t in spec.targets)
+        if temperature and spec.size.relative and spec.size.value > 0.0 and \
+                spec.size_kind in ("accuracy", "standard_uncertainty", "expanded_uncertainty",
+                                   "half_width"):
+            key = f"{spec.key}.{spec.size_kind}" + (".reading" if spec.size_kind == "accuracy"
+                                                     else "")
+            out.append(f"{key}: a % of a temperature reading is a % of its kelvin value (at "
+                       f"300 K, {100 * spec.size.value:.3g} % is {300 * spec.size.value:.3g} K) "
+                       f"for {plain(spec.name, 60)}: a thermometer's class is ±(a + b·|t|) with "
+                       "t in °C: did you mean accuracy = { rtd_class = ... } or { absolute, "
+                       "celsius }, or a size in K?")
+            continue
         if not spec.size.relative or spec.size_kind not in (
                 "standard_uncertainty", "expanded_uncertainty", "half_width"):
             continue

@@ -19,12 +19,7 @@ import math
 
 from simunc.study.catalogue import TARGETS
 from simunc.study.schema import InputSpec
-from simunc.units import RELATIVE_FACTORS, from_si
-
-#: Text of a unit as a test plan prints it.
-_UNIT_TEXT = {"degC": "°C", "degF": "°F", "delta_degC": "°C", "delta_degF": "°F", "deg": "°",
-              "degree": "°", "percent": "%", "ohm": "Ω", "micrometer": "µm", "um": "µm"}
-
+from simunc.units import RELATIVE_FACTORS, from_si, unit_text
 
 def round_down(value: float, digits: int = 2) -> str:
     """``value`` rounded down (towards zero) to ``digits`` significant digits, as text.
@@ -43,11 +38,6 @@ def round_down(value: float, digits: int = 2) -> str:
 
 def _number(value: float, exact: bool) -> str:
     return f"{value:.6g}" if exact else round_down(value)
-
-
-def unit_text(unit: str) -> str:
-    """A written unit as a test plan prints it (``degC`` -> ``°C``)."""
-    return _UNIT_TEXT.get(unit.strip(), unit.strip())
 
 
 def _quantity(si: float, dimension: str, unit: str, exact: bool, relative: bool = False) -> str:

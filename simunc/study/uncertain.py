@@ -171,7 +171,7 @@ def _accuracy(t: Table, targets: tuple) -> dict[str, Any]:
     temperature = all(_reading_dimension(x) == "temperature" for x in targets)
     for name in ("celsius", "rtd_class"):
         if at.has(name) and not temperature:
-            raise StudyError(at.key(name), repr(at.data[name]), f"{name} only for a temperature "
+            raise StudyError(at.key(name), at.data[name], f"{name} only for a temperature "
                              "quantity (its reading in degrees Celsius)")
     rtd = ""
     if at.has("rtd_class"):
@@ -182,7 +182,7 @@ def _accuracy(t: Table, targets: tuple) -> dict[str, Any]:
         raw = at.data["rtd_class"]
         rtd = raw.strip().upper() if isinstance(raw, str) else ""
         if rtd not in RTD_CLASSES:
-            raise StudyError(at.key("rtd_class"), repr(raw), "an IEC 60751 tolerance class: "
+            raise StudyError(at.key("rtd_class"), repr(raw) if isinstance(raw, str) else raw, "an IEC 60751 tolerance class: "
                              + ", ".join(repr(k) for k in RTD_CLASSES))
     reading, full_scale = fraction("reading"), fraction("full_scale")
     celsius = RTD_CLASSES[rtd][1] if rtd else fraction("celsius")

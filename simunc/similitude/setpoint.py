@@ -37,6 +37,7 @@ from simunc.constants import STANDARD_PRESSURE
 from simunc.physics.fluids import AIR, AIR_REAL, CoolPropGas
 from simunc.similitude.model import SimilitudeModel
 from simunc.study.schema import Band, Study
+from simunc.units import in_display_units
 
 #: A residual below this (in tolerance bands) counts as matched.
 MATCHED = 1.0e-6
@@ -137,8 +138,15 @@ def build_model(study: Study, fluid=None) -> SimilitudeModel:
                            custom_groups=study.custom_groups, measurement=study.measurement)
 
 
-def _q(value: float, unit: str) -> str:
-    """A value with its unit for messages (no unit for dimensionless values)."""
+def _q(value: float, unit: str, shown: Mapping[str, str] | None = None) -> str:
+    """A value with its unit for messages (no unit for dimensionless values), in the unit the
+    study writes for its dimension (``shown``, a study's display units) when it has one.
+
+    >>> _q(731449.0, "Pa", {"pressure": "bar"}), _q(0.95, "1")
+    ('7.31449 bar', '0.95')
+    """
+    if shown:
+        value, unit = in_display_units(value, unit, dict(shown))
     return f"{value:.6g} {unit}" if unit and unit != "1" else f"{value:.6g}"
 
 
@@ -515,7 +523,7 @@ def _limits(study: Study, state: dict, out: dict) -> list[Limit]:
     return lim
 
 
-def _describe(sp_state, out, keys, bands, limits, required) -> tuple:
+def _describe(sp_state, out, keys, bands, limits, required, shown) -> tuple:
     msgs = []
     mismatch = {}
     for b in bands:
@@ -525,26 +533,29 @@ def _describe(sp_state, out, keys, bands, limits, required) -> tuple:
         if not lim.ok:
             word = "above the facility maximum" if lim.side == "max" else "below the facility minimum"
             what = "solved" if lim.quantity in keys else "given"
-            msgs.append(f"The {what} {lim.quantity.replace('_', ' ')} {_q(lim.value, lim.unit)} is "
-                        f"{word} {_q(lim.bound, lim.unit)}.")
-    binding = [] if matched else [f"{lim.quantity} {lim.side} {_q(lim.bound, lim.unit)}"
-                                  for lim in limits if lim.active and lim.ok]
+            msgs.append(f"The {what} {lim.quantity.replace('_', ' ')} "
+                        f"{_q(lim.value, lim.unit, shown)} is {word} "
+                        f"{_q(lim.bound, lim.unit, shown)}.")
+    active = [] if matched else [lim for lim in limits if lim.active and lim.ok]
+    binding = [f"{lim.quantity} {lim.side} {_q(lim.bound, lim.unit)}" for lim in active]
+    said = [f"{lim.quantity} {lim.side} {_q(lim.bound, lim.unit, shown)}" for lim in active]
     if not matched:
-        needs = ", ".join(f"{k.replace('_', ' ')} {_q(v, _UNITS.get(k, ''))}"
+        needs = ", ".join(f"{k.replace('_', ' ')} {_q(v, _UNITS.get(k, ''), shown)}"
                           for k, v in required.items() if math.isfinite(v))
         if needs:
             msgs.append(f"Matching every solved group would need {needs}.")
         parts = []
         for b in bands:
             y = out[b.output]
-            parts.append(f"{b.output} = {y:+.4f}" if b.is_difference else
+            # round first so that a difference of -0.00001 reads +0.0000, not -0.0000
+            parts.append(f"{b.output} = {round(y, 4) + 0.0:+.4f}" if b.is_difference else
                          f"{b.output} = {y:.4f} ({100 * (y - 1):+.2f} %)")
-        where = ", ".join(f"{k.replace('_', ' ')} = {_q(sp_state[k], _UNITS.get(k, ''))}"
+        where = ", ".join(f"{k.replace('_', ' ')} = {_q(sp_state[k], _UNITS.get(k, ''), shown)}"
                           for k in keys)
         msgs.append(f"Nearest achievable set point{' (' + where + ')' if where else ''}: "
                     + "; ".join(parts) + "."
-                    + (f" Binding limit{'s' if len(binding) > 1 else ''}: {', '.join(binding)}."
-                       if binding else ""))
+                    + (f" Binding limit{'s' if len(said) > 1 else ''}: {', '.join(said)}."
+                       if said else ""))
     return msgs, mismatch, binding, matched
 
 
@@ -608,7 +619,8 @@ def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
             required = {k: math.nan for k in keys}
 
     limits = _limits(study, state, out)
-    msgs, mismatch, binding, matched = _describe(state, out, keys, bands, limits, required)
+    msgs, mismatch, binding, matched = _describe(state, out, keys, bands, limits, required,
+                                                 study.display_units)
     states = [out["static_pressure"], out["static_temperature"]]
     reason = ("non-finite set point (the solver found no state of the fluid model)"
               if not all(math.isfinite(v) for v in out.values() if isinstance(v, float) and v == v)
@@ -641,7 +653,8 @@ def _solve_fluid(study: Study, model: SimilitudeModel) -> SetPoint:
             how = (" (the full-scale depth scaled with the model)" if state.get("geometric_depth")
                    else "")
             msgs.append(f"The model's reference point is {depth:.4g} m below the free surface"
-                        f"{how}: static pressure at the model {out['static_pressure']:.6g} Pa.")
+                        f"{how}: static pressure at the model "
+                        f"{_q(out['static_pressure'], 'Pa', study.display_units)}.")
     if isinstance(model.fluid, CoolPropGas) and model.full_scale_fluid is AIR:
         p_fs, t_fs = state["full_scale_static_pressure"], out["full_scale_temperature"]
         # Re = rho U L / mu at the same state (and the same Mach number, U = M a, when the full

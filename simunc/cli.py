@@ -118,9 +118,11 @@ def _check(args) -> int:
                      if "speed_uncorrected" in o else "")
                  + f", p = {shown(o['static_pressure'], 'Pa')}, "
                  f"T = {shown(o['static_temperature'], 'K')}")
-    groups = "; ".join(f"{b.output} = {o[b.output]:.6g}" for b in study.bands)
+    # a difference matched to round-off (-1.7e-15) is zero
+    groups = "; ".join(f"{b.output} = {0.0 if abs(o[b.output]) < 1e-12 else o[b.output]:.6g}"
+                       for b in study.bands)
     print(f"set point ({solved} solved, {sp.method}): {state}, model reference length = "
-          f"{o['model_length']:.6g} m; {groups}; {'feasible' if sp.feasible else 'NOT feasible'}")
+          f"{shown(o['model_length'], 'm')}; {groups}; {'feasible' if sp.feasible else 'NOT feasible'}")
     for m in sp.messages:
         print("  " + plain(m))
     if study.measurement is not None and study.measurement.capacity:
@@ -232,8 +234,12 @@ def _run_locked(args, study) -> int:
               f"{len(result.requirement_checks)}")
     a = result.allocation
     if a is not None:
+        from simunc.report.blocks import cost_text
+
+        written_cost = (f" (as written {cost_text(a.cost_written)})" if a.cost_written is not None
+                        else "")
         print(f"allocation: {plain(a.message)}" if a.message else
-              f"allocation: cost {a.cost:.6g}; fresh Monte Carlo check "
+              f"allocation: cost {cost_text(a.cost)}{written_cost}; fresh Monte Carlo check "
               f"{'passed' if a.verified else 'FAILED'} ({a.verify_trials} trials)")
     print(f"wrote {len(written)} files to {plain(args.out)}: " + ", ".join(p.name for p in written))
     return EXIT_OK

@@ -338,3 +338,39 @@ def in_display_units(value: float, si_unit: str, shown: dict) -> tuple[float, st
     if not dim or not unit or unit == si_unit:
         return value, si_unit
     return to_display(value, dim, unit), unit_text(unit)
+
+
+#: Digits and minus sign as superscripts (the exponent of 1.9 × 10⁷).
+SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def number(v: float, digits: int = 6) -> str:
+    """A value to ``digits`` significant digits as an engineer writes it: positional from 0.0001
+    to below a million, otherwise ``a.bcd × 10ⁿ`` (never e-notation).
+
+    >>> number(1.88956e7), number(1.73198e-5), number(0.78), number(102304.0, 4)
+    ('1.88956 × 10⁷', '1.73198 × 10⁻⁵', '0.78', '102300')
+    >>> number(746421.0, 4), number(2.5, 5), number(-0.000123456, 3)
+    ('746400', '2.5', '-0.000123')
+    """
+    text = f"{float(v):.{digits}g}"
+    if "e" not in text:
+        return text
+    mantissa, exponent = text.split("e")
+    r = float(text)
+    if 1e-4 <= abs(r) < 1e6:   # positional, rounded to the digits asked
+        decimals = max(digits - 1 - int(exponent), 0)
+        out = f"{r:.{decimals}f}"
+        return out.rstrip("0").rstrip(".") if "." in out else out
+    return f"{mantissa} × 10{str(int(exponent)).translate(SUPERSCRIPT)}"
+
+
+def load_text(value: float, moment: bool = False) -> str:
+    """A balance load (a force [N] or a moment [N m]) in N or kN, four significant digits.
+
+    >>> load_text(20770.0), load_text(12000.0), load_text(150.0), load_text(1500.0, moment=True)
+    ('20.77 kN', '12 kN', '150 N', '1.5 kN·m')
+    """
+    kilo = abs(value) >= 1e3
+    return (f"{number(value / 1e3 if kilo else value, 4)} {'k' if kilo else ''}N"
+            + ("·m" if moment else ""))

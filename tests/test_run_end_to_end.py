@@ -52,14 +52,36 @@ def test_html_is_self_contained(demo_run):
 
 def test_report_sections(demo_run):
     md = (demo_run / "report.md").read_text()
-    for heading in ("## Summary", "## Matched set point", "## Uncertain inputs",
-                    "## Sensitivity (Sobol indices and uncertainty budget)",
+    for heading in ("## Summary", "## Matched set point", "## Appendix A. Uncertain inputs",
+                    "## Appendix D. Sensitivity (Sobol indices and uncertainty budget)",
                     "## Which input to control more tightly",
                     "## Requirements and the tolerances they allow", "## Tolerance sweeps",
-                    "## Safety", "## Reproducibility"):
+                    "## Safety", "## Appendix F. Reproducibility"):
         assert heading in md
     assert "pressure-equipment code" in md and "not certification" in md
     assert "20000" in md and "| seed" in md
+
+
+def test_report_numbers_are_written_as_engineers_write_them(demo_run):
+    # No number in e-notation (1.89e+07): positional, or 1.88956 × 10⁷ for very large and small.
+    import re
+
+    md = (demo_run / "report.md").read_text()
+    enotation = re.compile(r"(?<![0-9a-f])\d+(\.\d+)?e[+-]\d\d\b")   # not in a SHA-256
+    assert not enotation.search(md), md[enotation.search(md).start() - 60:][:80]
+    # The key outputs as JCGM 100:2008 7.2.6 asks: u to two significant digits, the mean to the
+    # same last digit (checked against the unrounded values of results.json)
+    stats = json.loads((demo_run / "results.json").read_text())["outputs"]["reynolds_ratio"]
+    u = stats["standard_uncertainty"]
+    digits = 1 - math.floor(math.log10(u))
+    row = next(line for line in md.splitlines() if line.startswith(
+        "| Reynolds number rho U L / mu: model / full scale |") and "[" in line)
+    cells = [c.strip() for c in row.split("|")[1:-1]]
+    assert cells[3] == f"{u:.{digits}f}" and cells[2] == f"{stats['mean']:.{digits}f}", cells
+    # the details follow the main sections as lettered appendices, in the Markdown too
+    heads = [h for h in md.splitlines() if h.startswith("## ")]
+    first = next(i for i, h in enumerate(heads) if h.startswith("## Appendix"))
+    assert all(h.startswith("## Appendix") for h in heads[first:]) and "## Safety" in heads[:first]
 
 
 def test_report_states_what_scaling_a_correlated_input_assumed(demo_run):

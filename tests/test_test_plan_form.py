@@ -265,7 +265,7 @@ def test_report_states_tolerances_as_written_and_exports_them(small_result, tmp_
     assert t0["as_written"] == "U = 0.3 K (k = 2)" and t0["unit"] == "K"
     md = (tmp_path / "r" / "report.md").read_text()
     assert "| allowed (test plan)" in md and "U = 0.0008 (k = 2)" in md
-    assert "requirement[0]" not in md.split("## Reproducibility")[0]
+    assert "requirement[0]" not in md.split(". Reproducibility")[0]
 
 
 @pytest.mark.slow

@@ -75,4 +75,9 @@ def test_values_are_rounded_to_their_uncertainty():
 def test_key_outputs_come_before_the_full_list(result):
     heads = [unmarked(b.content) for b in build(result) if b.kind == "heading"]
     assert heads.index("Key outputs") < heads.index(
-        "Achieved groups and flow quantities (Monte Carlo, JCGM 101)")
+        "Appendix B. Achieved groups and flow quantities (Monte Carlo, JCGM 101)")
+    # the details follow the main sections, lettered in order (an appendix of the Markdown)
+    appendix = [h for h in heads if h.startswith("Appendix")]
+    assert heads[-len(appendix):] == appendix and heads.index("Safety") < heads.index(appendix[0])
+    assert [h.split(".")[0] for h in appendix] == [f"Appendix {c}" for c in "ABCDEFG"[
+        :len(appendix)]] and len(appendix) >= 6, appendix

@@ -38,6 +38,7 @@ from simunc.similitude.inputs import UncertainInput, standard_uncertainty
 from simunc.study.catalogue import TARGETS
 from simunc.study.schema import InputSpec, Measurement
 from simunc.units import DIMENSIONS, Parsed, from_si, written_unit
+from simunc.units import load_text
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -160,9 +161,11 @@ def choices(inputs: Sequence[UncertainInput], m: Measurement,
     for name, cap, fs, price in balances(m):
         if not carries(m, outputs, cap):
             worst = max(cap, key=lambda c: abs(float(outputs[c])) / cap[c])
-            out.append(f"{name}: {worst.replace('_', ' ')} {abs(float(outputs[worst])):.4g} of "
-                       f"{cap[worst]:.4g} (with the {100 * m.load_margin:g} % margin it needs "
-                       f"{abs(float(outputs[worst])) * (1 + m.load_margin):.4g})")
+            moment = "moment" in worst
+            load = abs(float(outputs[worst]))
+            out.append(f"{name}: {worst.replace('_', ' ')} {load_text(load, moment)} of "
+                       f"{load_text(cap[worst], moment)} (with the {100 * m.load_margin:g} % "
+                       f"margin it needs {load_text(load * (1 + m.load_margin), moment)})")
             continue
         scales = np.array([option_scale(inputs[j], m, cap, fs) for j in idx]) \
             if name != m.balance or fs else np.ones(len(idx))

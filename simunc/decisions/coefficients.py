@@ -19,6 +19,7 @@ from simunc.decisions.balance import LOW_UTILISATION, utilisation
 from simunc.decisions.pretest import PressureChart, pressure_chart, scale_trade
 from simunc.study.catalogue import describe_output
 from simunc.units import COUNT
+from simunc.units import load_text
 
 #: Total blockage beyond which the classical small-model wall corrections are not trusted
 #: (common practice, no source: "a few per cent").
@@ -177,8 +178,10 @@ def coefficient_stage(prep, statistics: pd.DataFrame, sobol: dict[str, pd.DataFr
     if use is not None:
         for _, r in use.iterrows():
             name = str(r["component"]).replace("_", " ")
-            share = f"{100 * r['utilisation']:.0f} % of its capacity ({r['load']:.4g} of " \
-                    f"{r['capacity']:.4g})"
+            moment = "moment" in str(r["component"])
+            share = (f"{100 * r['utilisation']:.0f} % of its capacity "
+                     f"({load_text(float(r['load']), moment)} of "
+                     f"{load_text(float(r['capacity']), moment)})")
             if r["status"] == "overloaded":
                 warnings.append(f"balance utilisation ({m.balance}): the expected {name} is "
                                 f"{share}: the balance is overloaded at this set point")

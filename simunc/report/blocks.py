@@ -7,10 +7,10 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from simunc.report.text import two_digits
+from simunc.report.text import lit, two_digits
 from simunc.study.catalogue import EXTRAPOLATED_OUTPUT, describe_output
 from simunc.study.planning import output_dimension
-from simunc.units import SI_DIMENSION, from_si, in_display_units, to_display, unit_text
+from simunc.units import SI_DIMENSION, from_si, in_display_units, number, to_display, unit_text
 
 
 @dataclass(frozen=True)
@@ -37,7 +37,7 @@ def fmt(v) -> str:
             return "n/a"
         if np.abs(v) < 1e-13:
             return "0"
-        return f"{v:.6g}"
+        return number(float(v))
     return str(v)
 
 
@@ -110,6 +110,19 @@ def displayed(values, unit: str, study) -> tuple[list[float], str]:
     return ([to_display(value, dim, shown), from_si(u, "temperature_difference" if dim ==
                                                    "temperature" else dim, shown)]
             + [to_display(v, dim, shown) for v in ends]), unit_text(shown)
+
+
+def allocation_changes(a) -> list[str]:
+    """What an allocation asks for, one text per input it changes: the input and its allowed
+    tolerance as the test plan writes it, with the grade chosen. An input the allocation
+    leaves as written (a balance's, a grade kept) is no change."""
+    changed = []
+    if a.table is not None:
+        for _, r in a.table.iterrows():
+            if r["source"] != "as written" and abs(r["scale"] - 1.0) > 1e-9:
+                changed.append(f"{lit(r['input'])} {lit(r['allowed'])}"
+                               + (f" ({lit(r['source'])})" if r["source"] != "allocated" else ""))
+    return changed
 
 
 def cost_text(v: float) -> str:

@@ -2,12 +2,18 @@
 
 from __future__ import annotations
 
+import math
+
 import pandas as pd
 
 from simunc.decisions.coefficients import LOAD_CAUTION
-from simunc.report.blocks import Block, requirement_label, table
-from simunc.report.text import lit, two_digits
-from simunc.units import COUNT
+from simunc.report.blocks import Block, fmt, requirement_label, table
+from simunc.report.text import lit, two_digits, with_uncertainty
+from simunc.units import COUNT, in_display_units, load_text, number
+
+
+#: The heading of the coefficients' uncertainty budgets (an appendix section).
+BUDGETS = "Uncertainty budgets of the coefficients"
 
 
 def summary_lines(result) -> list[str]:
@@ -54,8 +60,8 @@ def _runs_for_text(r) -> str:
     if r.chosen is not None:
         d = r.designs.iloc[r.chosen]
         return (f"A sweep of {int(d['runs'])} runs meets it: {int(d['levels'])} Reynolds numbers "
-                f"from {d['reynolds_low']:.3g} to {d['reynolds_high']:.3g}, evenly spaced in "
-                f"log10 Re, {int(d['runs_per_level'])} run(s) at each (U = "
+                f"from {number(d['reynolds_low'], 3)} to {number(d['reynolds_high'], 3)}, evenly "
+                f"spaced in log10 Re, {int(d['runs_per_level'])} run(s) at each (U = "
                 f"{two_digits(d['U_counts'])} counts, with a margin of 3 standard errors of the "
                 "simulation)." + floor)
     if r.floor > r.limit:
@@ -94,29 +100,39 @@ def coefficient_blocks(result) -> list[Block]:
                "mean error); a drag count is 0.0001 of CD.")]
     t = c.table.reset_index()
     drag = t["output"] == "drag_coefficient"
-    limit_counts = t["limit"].where(drag) / COUNT
     est = result.lpu.estimates if result.lpu is not None else None
     u_lpu = [float(est.loc[o, "standard_uncertainty"]) if est is not None and o in est.index
              else float("nan") for o in t["output"]]
-    b.append(Block("table", table(pd.DataFrame({
-        "output": t["output"], "nominal": t["nominal"], "bias": t["bias"], "u": t["u"],
-        "u (LPU)": u_lpu,
-        f"U ({p})": t["U"], "U [counts]": t["U_counts"],
-        "requirement (U)": t["limit"].where(~drag), "requirement [counts]": limit_counts,
-        "leading inputs (Sobol ST)": t["leading_inputs"]}))))
+    def counts(v: float, is_drag: bool) -> str:
+        return "—" if v != v else f"{two_digits(v / COUNT)} counts" if is_drag else two_digits(v)
+
+    b.append(Block("table", pd.DataFrame({
+        "output": t["output"], "nominal": [fmt(v) for v in t["nominal"]],
+        "bias": [two_digits(v) for v in t["bias"]], "u": [two_digits(v) for v in t["u"]],
+        "u (LPU)": [two_digits(v) for v in u_lpu],
+        f"U ({p})": [counts(v, d) for v, d in zip(t["U"], drag)],
+        "requirement (U)": ["—" if v != v else f"{fmt(v / COUNT)} counts" if d else fmt(v)
+                            for v, d in zip(t["limit"], drag)],
+        "leading inputs (Sobol ST)": t["leading_inputs"]})))
+    budgets: list[Block] = []
     if result.lpu is not None:
         for out in [o for o in t["output"] if st.limit_of_output(o) is not None
                     and o in result.lpu.budgets]:
             bud = result.lpu.budget(out).reset_index()
-            b.append(Block("paragraph", f"Uncertainty budget of **{lit(out)}** (LPU, JCGM 100):"))
-            b.append(Block("table", table(bud[["term", "sensitivity", "standard_uncertainty",
-                                               "contribution", "share_percent"]])))
+            budgets.append(Block("paragraph", f"Uncertainty budget of **{lit(out)}** (LPU, "
+                                 "JCGM 100; u of each term in its SI unit):"))
+            budgets.append(Block("table", pd.DataFrame({
+                "term": bud["term"], "sensitivity": [number(v, 3) for v in bud["sensitivity"]],
+                "u": [two_digits(v) for v in bud["standard_uncertainty"]],
+                "contribution": [number(v, 2) for v in bud["contribution"]],
+                "share": [f"{v:.1f} %" for v in bud["share_percent"]]})))
+    if budgets:   # details: an appendix of the report
+        budgets.insert(0, Block("heading", BUDGETS))
     if c.walls is not None:
         b.append(Block("paragraph", "Wall corrections at the set point (uncorrected: the empty-"
                        "tunnel calibration; corrected: the stream the model sees, which the set "
                        "point matches to full scale):"))
-        b.append(Block("table", table(c.walls.drop(columns="output").rename(
-            columns={"U": f"U ({p}) of the corrected value"}))))
+        b.append(Block("table", _walls_view(c.walls, st, p)))
         b.append(Block("figure", "wall_corrections.png", caption=(
             "Wall corrections at the set point: the tunnel's uncorrected value, the corrected "
             f"one with its U ({p}; the corrections' own uncertainty included) and, for the Mach "
@@ -144,10 +160,10 @@ def coefficient_blocks(result) -> list[Block]:
                        f"({lit(e.law)}; {e.trials} simulated tests, systematic errors shared by "
                        "the runs of a test, random errors drawn anew in each run): the drag of "
                        "the runs at the matched primary group fitted against the law's regressor "
-                       f"and read at Re = {e.reynolds_full_scale:.4g} (extrapolation ratio "
+                       f"and read at Re = {number(e.reynolds_full_scale, 4)} (extrapolation ratio "
                        f"{e.ratio:.3g}): C_D = {e.estimate:.5f}, U ({pe}) = {two_digits(e.U)} "
                        f"({two_digits(e.U_counts)} counts) about the true full-scale value, bias "
-                       f"{e.bias:.2g}."))
+                       f"{two_digits(e.bias)}."))
         b.append(Block("table", table(e.runs)))
         if e.notes:
             b.append(Block("bullets", [lit(n[0].upper() + n[1:] + ".") for n in e.notes]))
@@ -160,9 +176,13 @@ def coefficient_blocks(result) -> list[Block]:
         b.append(Block("paragraph", f"Balance utilisation at the set point ({lit(m.balance)}, "
                        f"load margin {100 * m.load_margin:g} %):"))
         u = c.utilisation
-        b.append(Block("table", table(pd.DataFrame({
-            "component": u["component"], "expected load": u["load"], "capacity": u["capacity"],
-            "utilisation [%]": 100 * u["utilisation"], "status": u["status"]}))))
+        moment = ["moment" in str(x) for x in u["component"]]
+        b.append(Block("table", pd.DataFrame({
+            "component": [str(x).replace("_", " ") for x in u["component"]],
+            "expected load": [load_text(float(v), k) for v, k in zip(u["load"], moment)],
+            "capacity": [load_text(float(v), k) for v, k in zip(u["capacity"], moment)],
+            "utilisation": [f"{100 * float(v):.0f} %" for v in u["utilisation"]],
+            "status": u["status"]})))
         b.append(Block("bullets", [lit(n) for n in c.notes] + [LOAD_CAUTION]))
     a = result.allocation
     if a is not None and m.options:
@@ -178,5 +198,61 @@ def coefficient_blocks(result) -> list[Block]:
     if c.trade is not None:
         b.append(Block("paragraph", f"Model-size trade (the set point solved again for each "
                        f"size; U ({p}) on common random numbers):"))
-        b.append(Block("table", table(c.trade)))
-    return b
+        b.append(Block("table", _trade_view(c.trade, result.study)))
+    return b + budgets
+
+
+def _trade_view(trade: pd.DataFrame, study) -> pd.DataFrame:
+    """The model-size trade with human headers, in the study's units, rounded to what the
+    choice of a size needs (U of the drag in counts, shares in %)."""
+    shown = dict(study.display_units)
+
+    def q(col: str, si: str) -> tuple[str, list[str]]:
+        vals = [in_display_units(float(v), si, shown) for v in trade[col]]
+        unit = vals[0][1] if vals else si
+        return f"{col.replace('_', ' ')} [{unit}]", [number(v, 4) for v, _ in vals]
+
+    cols: dict[str, list[str]] = {}
+    name, vals = q("model_length", "m")
+    cols["model reference length" + name[len("model length"):]] = vals
+    cols["scale"] = [f"1:{1 / v:.3g}" for v in trade["scale"]]
+    for col, si in (("stagnation_pressure", "Pa"), ("speed", "m/s")):
+        if col in trade:
+            name, vals = q(col, si)
+            cols[name] = vals
+    cols["feasible"] = ["yes" if v else "no" for v in trade["feasible"]]
+    cols["Re ratio (model / full scale)"] = [f"{v:.3g}" for v in trade["reynolds_ratio"]]
+    cols["blockage"] = [f"{100 * v:.2g} %" if v == v else "n/a" for v in trade["blockage"]]
+    name, vals = q("dynamic_pressure", "Pa")
+    cols[name] = vals
+    cols["largest balance utilisation"] = [f"{100 * v:.0f} %" for v in trade["largest_utilisation"]]
+    for col in trade.columns:
+        if col == "U_drag_coefficient_counts":
+            cols["U of CD [counts]"] = [two_digits(v) for v in trade[col]]
+        elif col.startswith("U_") and col != "U_drag_coefficient":
+            cols[f"U of {col[2:].replace('_', ' ')}"] = [two_digits(v) for v in trade[col]]
+        elif col == "drag_bias_to_full_scale":
+            cols["drag bias to full scale [counts]"] = [f"{v / COUNT:+.3g}" for v in trade[col]]
+    return pd.DataFrame(cols)
+
+
+def _walls_view(walls: pd.DataFrame, study, p: str) -> pd.DataFrame:
+    """The wall corrections in the study's units (an angle in degrees), each value to the digit
+    of the U of the corrected value (JCGM 100 7.2.6), four digits where there is no U."""
+    rows = []
+    for _, r in walls.iterrows():
+        vals = [float(r[c]) for c in ("uncorrected", "correction", "corrected", "U")]
+        unit = str(r["unit"])
+        if unit == "rad":
+            vals, unit = [math.degrees(v) for v in vals], "°"
+        elif unit == "Pa":   # the correction and U are differences: no offset in a pressure unit
+            shown = [in_display_units(v, unit, dict(study.display_units)) for v in vals]
+            vals, unit = [v for v, _ in shown], shown[0][1]
+        U = vals[3]
+        ok = math.isfinite(U) and U > 0.0
+        text = [("n/a" if not math.isfinite(v) else with_uncertainty(v, U)[0] if ok
+                 else number(v, 4)) for v in vals[:3]]
+        rows.append((r["quantity"], *text, "" if unit == "1" else unit,
+                     two_digits(U) if ok else "n/a"))
+    return pd.DataFrame(rows, columns=["quantity", "uncorrected", "correction", "corrected",
+                                       "unit", f"U ({p}) of the corrected value"])

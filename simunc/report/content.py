@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import platform
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -12,17 +13,20 @@ from simunc.report import coefficients, decisions, matrix
 from simunc.report.blocks import (
     Block,
     achieved,
+    allocation_changes,
     cost_text,
     displayed,
     engineering,
     fmt,
+    number,
     requirement_label,
 )
 from simunc.report.blocks import table as _table
 from simunc.report.figures import histogram_files
-from simunc.report.text import lit, two_digits, with_uncertainty
+from simunc.report.text import lit, two_digits, unmarked, with_uncertainty
 from simunc.study.catalogue import describe_output
 from simunc.study.written import statement
+from simunc.units import in_display_units
 
 SAFETY = [
     "Pressurised facilities store a great deal of energy in the gas: run only inside the "
@@ -54,18 +58,23 @@ def _small(v: float) -> float:
 
 
 def _state_line(st, o) -> str:
+    """The set point in one sentence, in the units the study writes (bar, °C, mm)."""
+    def q(key: str, si: str, digits: int = 5) -> str:
+        value, unit = in_display_units(float(o[key]), si, dict(st.display_units))
+        return f"{number(value, digits)} {unit}"
+
     scale = st.full_scale.reference_length / o["model_length"]
-    model = f"model reference length {o['model_length'] * 1e3:.2f} mm (scale 1:{scale:.4g})"
+    model = f"model reference length {q('model_length', 'm')} (scale 1:{scale:.4g})"
     if st.kind == "gas":
         walls = (f" (the tunnel set to Mach {o['mach_uncorrected']:.4f}, corrected for the walls)"
                  if "mach_uncorrected" in o else "")
-        return (f"Stagnation pressure {o['stagnation_pressure'] / 1e5:.4f} bar, stagnation "
-                f"temperature {o['stagnation_temperature']:.2f} K, Mach {o['mach_model']:.4f}"
-                f"{walls} (speed {o['speed']:.4g} m/s), {model}.")
+        return (f"Stagnation pressure {q('stagnation_pressure', 'Pa')}, stagnation temperature "
+                f"{q('stagnation_temperature', 'K')}, Mach {o['mach_model']:.4f}{walls} (speed "
+                f"{q('speed', 'm/s', 4)}), {model}.")
     if "speed_uncorrected" in o:
-        model += f"; the speed set to {o['speed_uncorrected']:.4g} m/s, corrected for the walls"
-    return (f"Speed {o['speed']:.4g} m/s, static pressure {o['static_pressure'] / 1e3:.4g} kPa, "
-            f"temperature {o['static_temperature']:.2f} K, {model}.")
+        model += f"; the speed set to {q('speed_uncorrected', 'm/s', 4)}, corrected for the walls"
+    return (f"Speed {q('speed', 'm/s', 4)}, static pressure {q('static_pressure', 'Pa', 4)}, "
+            f"temperature {q('static_temperature', 'K')}, {model}.")
 
 
 #: The state of a planned run shown in the split-test plan, with its SI unit.
@@ -86,12 +95,25 @@ def verdict_lines(result) -> list[str]:
              f"**{100 * result.conformity['all']:.1f} %** ({result.trials} trials)."]
     lines.insert(1, "Set point: " + _state_line(st, sp.outputs)[0].lower()
                  + _state_line(st, sp.outputs)[1:])
-    if not sp.feasible and sp.messages:
-        lines.insert(2, lit(sp.messages[0].rstrip(".")) + ".")
+    if not sp.feasible:
+        said = [m for m in sp.messages if m.startswith(
+            ("Matching every", "The given ", "The solved ", "The facility state"))][:1]
+        short = [band for band in st.bands if abs(sp.mismatch.get(band.group, 0.0)) >= 1e-6]
+        if short:
+            said.append("Short of the match at this point: " + "; ".join(
+                f"{band.output} = {sp.outputs[band.output]:+.2g}" if band.is_difference else
+                f"{band.output} = {sp.outputs[band.output]:.3g} "
+                f"({100 * (sp.outputs[band.output] - 1):+.0f} %)" for band in short))
+        lines[2:2] = [lit(m.rstrip(".")) + "." for m in said]
+    plan = [] if result.extrapolation is None else list(result.extrapolation.checks)
+    if result.requirement_checks is not None or plan:
+        checks = list(result.requirement_checks or []) + plan
+        lines.append(f"Requirements at the written tolerances: **{sum(c.met for c in checks)} "
+                     f"of {len(checks)} met**" + (" (the last judged on the split-test plan)"
+                                                  if len(plan) == 1 else
+                                                  f" (the last {len(plan)} judged on the split-test "
+                                                  "plan)" if plan else "") + ".")
     if result.requirement_checks is not None:
-        met = sum(c.met for c in result.requirement_checks)
-        lines.append(f"Requirements at the written tolerances: **{met} of "
-                     f"{len(result.requirement_checks)} met**.")
         for c in result.requirement_checks:
             lines.append(f"Requirement {requirement_label(c.key)} "
                          f"{'met' if c.met else '**NOT met**'}: {lit(c.text)} — achieved "
@@ -124,17 +146,43 @@ def _allocation_line(result, a) -> str:
     """The allocation in one line: its cost (and the written one), what it changes."""
     cost = f"cost **{cost_text(a.cost)}**" + (
         f" (as written {cost_text(a.cost_written)})" if a.cost_written is not None else "")
-    changed = []
-    if a.table is not None:
-        for _, r in a.table.iterrows():
-            if r["source"] != "as written" and not (r["source"].startswith("grade")
-                                                    and abs(r["scale"] - 1.0) < 1e-12):
-                changed.append(f"{lit(r['input'])} {lit(r['allowed'])}"
-                               + (f" ({lit(r['source'])})" if r["source"] != "allocated" else ""))
+    changed = allocation_changes(a)
     return (f"Least-cost allocation: {cost}, fresh Monte Carlo check "
             f"{'passed' if a.verified else 'FAILED'}"
             + (f"; it asks for {'; '.join(changed[:4])}" + ("; …" if len(changed) > 4 else "")
-               if changed else "") + ".")
+               if changed else "; the tolerances as written already meet every requirement at the "
+               "set point") + ".")
+
+
+#: Sections of the detail kind: after the main sections, as lettered appendices (folded,
+#: collapsible, in the HTML report).
+APPENDIX = ("Dimensional analysis", "Uncertain inputs", "Achieved groups", coefficients.BUDGETS,
+            "GUM uncertainty framework", "Sensitivity", "Ranking details", "Reproducibility")
+#: What every appendix heading starts with.
+APPENDIX_WORD = "Appendix"
+
+
+def with_appendix(blocks: list[Block]) -> list[Block]:
+    """The blocks with the detail sections (:data:`APPENDIX`) moved after the main ones, in
+    their order, their headings lettered ``Appendix A. Uncertain inputs``."""
+    head: list[Block] = []
+    sections: list[list[Block]] = []
+    for blk in blocks:
+        if blk.kind == "heading" and blk.level == 2:
+            sections.append([blk])
+        elif sections:
+            sections[-1].append(blk)
+        else:
+            head.append(blk)
+
+    def detail(sec: list[Block]) -> bool:
+        return unmarked(sec[0].content).startswith(APPENDIX)
+
+    main = [blk for sec in sections if not detail(sec) for blk in sec]
+    tail = []
+    for letter, sec in zip("ABCDEFGHIJKLMNOPQRSTUVWXYZ", [x for x in sections if detail(x)]):
+        tail += [replace(sec[0], content=f"{APPENDIX_WORD} {letter}. {sec[0].content}")] + sec[1:]
+    return head + main + tail
 
 
 def build(result) -> list[Block]:
@@ -266,11 +314,14 @@ def build(result) -> list[Block]:
 
     b.append(Block("heading", "Uncertain inputs"))
     if result.inputs:
-        input_rows = [(i.name, ", ".join(t for t, _ in i.effects), f"{i.kind} ({i.component})",
-                       statement(i.spec), two_digits(i.standard_uncertainty), i.unit)
-                      for i in result.inputs]
+        input_rows = []
+        for i in result.inputs:
+            (_, u_in), unit = displayed([0.0, i.standard_uncertainty], i.unit, st)
+            input_rows.append((i.name, ", ".join(t for t, _ in i.effects),
+                               f"{i.kind} ({i.component})", statement(i.spec), two_digits(u_in),
+                               unit))
         b.append(Block("table", pd.DataFrame(
-            input_rows, columns=["input", "perturbs", "distribution", "as written", "u (SI)", "unit"])))
+            input_rows, columns=["input", "perturbs", "distribution", "as written", "u", "unit"])))
         b.append(Block("paragraph", "Measurement model: true value = set point - indication error "
                        "+ control deviation; a size in % is a fraction of the reading at the set point."))
     else:
@@ -311,7 +362,7 @@ def build(result) -> list[Block]:
         b.append(Block("paragraph", f"The matched groups, the outputs a requirement limits and "
                        f"the measured coefficients: mean and standard uncertainty u rounded as "
                        f"JCGM 100 7.2.6 asks (u to two digits), and the {p:g} % coverage "
-                       "interval. Every output is in the report's section of achieved groups "
+                       "interval. Every output is in the appendix of achieved groups "
                        "and flow quantities. Throughout the report U "
                        f"is the expanded uncertainty, the half-length of the probabilistically "
                        f"symmetric {p:g} % coverage interval (JCGM 101, 7.7), and 2u twice the "
@@ -320,12 +371,22 @@ def build(result) -> list[Block]:
             "quantity", "unit", "mean", "u", f"{p:g} % interval"])))
     b.append(Block("heading", "Achieved groups and flow quantities (Monte Carlo, JCGM 101)"))
     s = result.statistics
-    tab = pd.DataFrame({"quantity": [describe_output(k)[1] for k in s.index], "unit": s["unit"],
-                        "nominal": s["nominal"], "mean": s["mean"], "u": s["standard_uncertainty"],
-                        f"{p:g} % low": s["low"], f"{p:g} % high": s["high"],
-                        "shortest low": s["shortest_low"], "shortest high": s["shortest_high"],
-                        "k": s["coverage_factor"]})
-    b.append(Block("table", _table(tab.reset_index(drop=True))))
+    values = ("nominal", "mean", "low", "high", "shortest_low", "shortest_high")
+    stat_rows = []
+    for k, r in s.iterrows():
+        u_k = float(r["standard_uncertainty"])
+        # every value to the digit of its u, u to two digits (JCGM 100 7.2.6)
+        shown = [with_uncertainty(float(r[c]), u_k)[0] for c in values]
+        k_factor = float(r["coverage_factor"])
+        stat_rows.append([describe_output(k)[1], r["unit"], *shown[:2],
+                          with_uncertainty(0.0, u_k)[1], *shown[2:],
+                          f"{k_factor:.3g}" if np.isfinite(k_factor) else "n/a"])
+    b.append(Block("paragraph", "Each value to the last digit of its standard uncertainty u, u "
+                   "to two significant digits (JCGM 100 7.2.6); k is the half-length of the "
+                   "interval over u."))
+    b.append(Block("table", pd.DataFrame(stat_rows, columns=[
+        "quantity", "unit", "nominal", "mean", "u", f"{p:g} % low", f"{p:g} % high",
+        "shortest low", "shortest high", "k"])))
     eng = result.engine
     how = (f"adaptive (JCGM 101, 7.9): {eng.adaptive.batches} batches of {eng.adaptive.batch_size}, "
            f"{'converged' if eng.adaptive.converged else 'NOT converged'} to "
@@ -355,14 +416,20 @@ def build(result) -> list[Block]:
         keys += [k for k in ("reynolds_model", "dynamic_pressure", "speed")
                  if k in result.validation.index and k not in keys]
         v, est = result.validation.loc[keys], result.lpu.estimates.loc[keys]
-        tab = pd.DataFrame({"output": keys, "u (LPU)": est["standard_uncertainty"].values,
-                            "u (MC)": result.statistics.loc[keys, "standard_uncertainty"].values,
-                            "GUF low": v["guf_low"].values, "GUF high": v["guf_high"].values,
-                            "MC low": v["mc_low"].values, "MC high": v["mc_high"].values,
-                            "d_low": v["d_low"].values, "d_high": v["d_high"].values,
-                            "delta": v["delta"].values, "2 se (MC)": v["spread"].values,
-                            "verdict": v["verdict"].values,
-                            "trials needed": v["trials_needed"].values})
+        gum_rows = []
+        for k in keys:
+            r, delta = v.loc[k], float(v.loc[k, "delta"])
+            # endpoints one digit finer than delta, the differences to two digits
+            ends = [with_uncertainty(float(r[c]), 10 * delta)[0]
+                    for c in ("guf_low", "guf_high", "mc_low", "mc_high")]
+            gum_rows.append([k, number(float(est.loc[k, "standard_uncertainty"]), 3),
+                         number(float(result.statistics.loc[k, "standard_uncertainty"]), 3),
+                         *ends, *(two_digits(float(r[c])) for c in ("d_low", "d_high", "delta",
+                                                                     "spread")),
+                         r["verdict"], fmt(r["trials_needed"])])
+        tab = pd.DataFrame(gum_rows, columns=[
+            "output", "u (LPU)", "u (MC)", "GUF low", "GUF high", "MC low", "MC high", "d_low",
+            "d_high", "delta", "2 se (MC)", "verdict", "trials needed"])
         b.append(Block("paragraph", "Law of propagation of uncertainty (first order, sensitivity "
                        "coefficients by central differences, the uncertainties package for the "
                        "covariance algebra) with k from the normal distribution. The GUF interval "
@@ -371,7 +438,7 @@ def build(result) -> list[Block]:
                        "Monte Carlo endpoints are stable to delta (twice their standard error at "
                        "most delta, JCGM 101 7.9); otherwise the verdict is inconclusive at this "
                        "number of trials, with the trials that would make it stable."))
-        b.append(Block("table", _table(tab)))
+        b.append(Block("table", tab))
         if result.components is not None and len(result.components):
             b.append(Block("paragraph", "Systematic (fixed over a test), random (point to point) "
                            "and condition (the spread of the full-scale condition itself, not a "
@@ -408,4 +475,4 @@ def build(result) -> list[Block]:
         ("random generator", "numpy PCG64"),
         ("Python / numpy", f"{platform.python_version()} / {np.__version__}"),
     ], columns=["item", "value"])))
-    return b
+    return with_appendix(b)

@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
-from simunc.report.blocks import Block, cost_text, table
+import pandas as pd
+
+from simunc.decisions.requirements import Check
+from simunc.report.blocks import Block, achieved, allocation_changes, cost_text, table
 from simunc.report.text import lit, two_digits
 
 
@@ -34,8 +37,12 @@ def summary_lines(result) -> list[str]:
         else:
             met = int(wd.checks["all_met"].sum()) if wd.checks is not None else 0
             dm, dn = wd.derived_met
+            changed = allocation_changes(a)
+            asks = (f"it asks for {'; '.join(changed[:4])}" + ("; …" if len(changed) > 4 else "")
+                    + "; " if changed else "")
             lines.append(f"Allocation at the hardest matrix point {wd.point + 1} "
-                         f"({lit(wd.label)}): cost {cost_text(a.cost)}; with it every requirement "
+                         f"({lit(wd.label)}): cost {cost_text(a.cost)}; {asks}with it every "
+                         "requirement "
                          f"holds at {met} of {len(wd.checks) if wd.checks is not None else 0} "
                          "points" + (f", and {dm} of {dn} increments and slopes stay within "
                                      "their limits" if dn else "") + ".")
@@ -69,7 +76,7 @@ def matrix_blocks(result) -> list[Block]:
     if len(mx.worst):
         b.append(Block("paragraph", "Requirements at every point (the point where each is "
                        "hardest to meet):"))
-        b.append(Block("table", table(mx.worst)))
+        b.append(Block("table", _worst_view(mx.worst, result.study)))
     if len(mx.derived_table):
         b.append(Block("paragraph", "Increments and slopes, in the units shown (drag "
                        "increments in counts, slopes per degree of angle of attack); u and u "
@@ -139,3 +146,17 @@ def matrix_json(mx, wd=None) -> dict | None:
             "trials": mx.trials, "seed": mx.seed, "workers": mx.workers,
             "scheduler": mx.scheduler, "seconds": mx.seconds}
 
+
+def _worst_view(worst: pd.DataFrame, study) -> pd.DataFrame:
+    """The matrix requirements table as a test plan reads it: each requirement as written, the
+    points that meet it, and the achieved value at the hardest point in the limit's unit."""
+    rows = []
+    for _, w in worst.iterrows():
+        req = next(r for r in study.requirements if r.text == w["requirement"])
+        c = Check(key=req.key, text=req.text, kind=req.kind, value=float(w["value"]),
+                  limit=float(w["limit"]), met=bool(w["met_at_worst"]), output=req.output)
+        rows.append((lit(req.text), f"{w['points_met']} of {w['points']}",
+                     str(w["worst_point"]), achieved(c, study),
+                     "yes" if w["met_at_worst"] else "no"))
+    return pd.DataFrame(rows, columns=["requirement", "points that meet it", "hardest point",
+                                       "achieved there", "met there"])

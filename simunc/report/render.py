@@ -7,7 +7,7 @@ import html
 import re
 from typing import TYPE_CHECKING, cast
 
-from simunc.report.content import Block
+from simunc.report.content import APPENDIX_WORD, Block
 from simunc.report.text import md, md_inline, spans, unmarked
 
 if TYPE_CHECKING:
@@ -27,11 +27,6 @@ nav.toc a{display:inline-block;margin-right:1.2em;white-space:nowrap}
 details>summary{cursor:pointer}details>summary h2{display:inline}
 h2#s1{margin-top:.8em}ul{margin:.4em 0}li{margin:.1em 0}
 """
-
-#: Sections of the detail kind: folded (collapsible) in the HTML report.
-DETAIL_SECTIONS = ("Uncertain inputs", "Achieved groups", "Dimensional analysis",
-                   "GUM uncertainty framework", "Sensitivity", "Ranking details",
-                   "Reproducibility")
 
 
 def markdown(blocks: list[Block]) -> str:
@@ -63,6 +58,21 @@ def _inline(text: object) -> str:
     return re.sub(r"\*\*(.+?)\*\*", r"<strong>\1</strong>", escaped)
 
 
+def _toc_label(name: str) -> str:
+    """A section's name in the table of contents: no parenthesis, an appendix by its letter and
+    the head of its name.
+
+    >>> _toc_label("Appendix D. Sensitivity (Sobol indices and uncertainty budget)")
+    'D. Sensitivity'
+    >>> _toc_label("Appendix B. Achieved groups and flow quantities (Monte Carlo, JCGM 101)")
+    'B. Achieved groups'
+    """
+    name = re.sub(r"\s*\(.*\)\s*$", "", name)
+    if not name.startswith(APPENDIX_WORD + " "):
+        return name
+    return re.split(r" (?:and|of|against) ", name[len(APPENDIX_WORD) + 1:])[0]
+
+
 def html_page(blocks: list[Block], figures: dict[str, bytes]) -> str:
     title = next((unmarked(b.content) for b in blocks if b.kind == "heading"), "simunc report")
     return "\n".join(["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
@@ -81,14 +91,14 @@ def html_body(blocks: list[Block], figures: dict[str, bytes]) -> str:
             anchor = f"s{sections.index(name) + 1}"
             if folded:
                 out.append("</details>")
-            folded = name.startswith(DETAIL_SECTIONS)
+            folded = name.startswith(APPENDIX_WORD)  # the detail sections fold
             head = f'<h2 id="{anchor}">{_inline(b.content)}</h2>'
             out.append(f"<details><summary>{head}</summary>" if folded else head)
         elif b.kind == "heading":
             out.append(f"<h{b.level}>{_inline(b.content)}</h{b.level}>")
             if b.level == 1 and sections:
                 out.append('<nav class="toc">' + "".join(
-                    f'<a href="#s{i}">{html.escape(n)}</a>'
+                    f'<a href="#s{i}">{html.escape(_toc_label(n))}</a>'
                     for i, n in enumerate(sections, start=1)) + "</nav>")
         elif b.kind == "paragraph":
             out.append(f"<p>{_inline(str(b.content))}</p>")

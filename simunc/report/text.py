@@ -14,6 +14,7 @@ from __future__ import annotations
 import re
 
 from simunc.errors import plain
+from simunc.units import SUPERSCRIPT, number
 
 #: Private-use characters that open and close a literal span (removed from study text by lit()).
 OPEN, CLOSE = "\ue000", "\ue001"
@@ -78,10 +79,24 @@ def md(text: object) -> str:
 def two_digits(x: float) -> str:
     """An uncertainty to two significant digits, a trailing zero kept (JCGM 100:2008 7.2.6).
 
+    Written out in positional notation, never in e-notation.
+
     >>> two_digits(3.0), two_digits(4.38), two_digits(12.4), two_digits(0.000437)
     ('3.0', '4.4', '12', '0.00044')
+    >>> two_digits(9.82e-05), two_digits(74218.5), two_digits(0.0006), two_digits(9.96)
+    ('0.000098', '74000', '0.00060', '10')
+    >>> two_digits(-3.88e-06)
+    '-3.9 × 10⁻⁶'
     """
-    return f"{float(x):#.2g}".rstrip(".")
+    import math
+
+    r = float(f"{float(x):.2g}")  # rounded first: 9.96 -> 10, two digits and no decimal
+    if not math.isfinite(r) or r == 0.0:
+        return f"{r:g}"
+    exponent = math.floor(math.log10(abs(r)))
+    if exponent < -5:   # 3.9 × 10⁻⁶ rather than a row of zeros
+        return f"{r / 10.0 ** exponent:.1f} × 10{str(exponent).translate(SUPERSCRIPT)}"
+    return f"{r:.{max(1 - exponent, 0)}f}"
 
 
 def with_uncertainty(value: float, u: float) -> tuple[str, str]:
@@ -96,7 +111,7 @@ def with_uncertainty(value: float, u: float) -> tuple[str, str]:
     import math
 
     if not (math.isfinite(u) and u > 0.0) or not math.isfinite(value):
-        return f"{value:.6g}", "0" if u == 0.0 else f"{u:.2g}"
+        return number(value), "0" if u == 0.0 else two_digits(u)
     exponent = math.floor(math.log10(u)) - 1   # the place of u's second digit
     decimals = max(-exponent, 0)
     step = 10.0 ** exponent

@@ -586,7 +586,10 @@ def solve(study: Study, model: SimilitudeModel | None = None) -> SetPoint:
         key = "facility.humidity" if "supersaturated" in best.outside_model else "facility"
         raise StudyError(key, f"a set point outside the {best.fluid} model ({best.outside_model})",
                          "facility settings and ranges that keep the test section inside the fluid "
-                         "model (e.g. a higher stagnation temperature, a drier gas, another fluid)")
+                         "model (e.g. " + ("a higher stagnation temperature, a drier gas, another "
+                                           "fluid)" if study.kind == "gas" else
+                                           "a static pressure at most 5 bar, a water temperature "
+                                           "of 0-40 °C, above the vapour pressure)"))
     if len(results) > 1:
         alts: list[dict[str, Any]] = [{"fluid": sp.fluid, "feasible": sp.feasible,
                                        "mismatch": dict(sp.mismatch)} for sp in results]

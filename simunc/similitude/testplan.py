@@ -26,6 +26,7 @@ import numpy as np
 from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import MATCHED, SetPoint, band_residual, solve_state
 from simunc.study.schema import Study
+from simunc.units import number
 
 #: Reynolds-number levels of the sweep (runs B), including the lowest and run A.
 SWEEP_POINTS = 4
@@ -93,7 +94,7 @@ def sweep_run(study: Study, model: SimilitudeModel, setpoint: SetPoint, reynolds
     state, out = solve_state(study, model, _sweep_keys(study), primary + [aim] + others)
     name = primary[0].group.capitalize() if primary else ""
     return PlannedRun(label, f"Reynolds sweep at {name} matched (Re = "
-                             f"{out['reynolds_model']:.4g})", state, out)
+                             f"{number(out['reynolds_model'], 4)})", state, out)
 
 
 def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
@@ -146,8 +147,8 @@ def plan(study: Study, model: SimilitudeModel, setpoint: SetPoint) -> TestPlan:
                      "counted in the covered range.")
     re_lo, re_hi = (min(held), max(held)) if held else (math.nan, math.nan)
     ratio = re_fs / re_hi if held else math.nan
-    notes.append(f"Reynolds numbers covered at {name} matched: {re_lo:.4g} to {re_hi:.4g} against "
-                 f"{re_fs:.4g} at full scale; extrapolation ratio Re_full / Re_A = {ratio:.3g} "
+    notes.append(f"Reynolds numbers covered at {name} matched: {number(re_lo, 4)} to "
+                 f"{number(re_hi, 4)} against {number(re_fs, 4)} at full scale; extrapolation ratio Re_full / Re_A = {ratio:.3g} "
                  f"({math.log10(ratio):.2f} decades).")
     if held and re_hi < TREND_FACTOR * re_lo:
         lever = ("sweep the speed instead (runs off the matched Mach number, whose "

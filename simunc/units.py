@@ -160,7 +160,7 @@ def parse(key: str, text: object, dimension: str, *, allow_relative: bool = Fals
                          if dimension == "angle" else f"a slope per angle with its unit such as "
                          f"{example}")
     expected = f"{'an' if noun[0] in 'aeiou' else 'a'} {noun} such as {example}"
-    if allow_relative:
+    if allow_relative and dimension != "dimensionless":   # a number's example has a % already
         expected += " or a percentage of reading such as '0.05 %'"
     try:
         q = _quantity(key, text, expected)

@@ -124,9 +124,19 @@ def verdict_lines(result) -> list[str]:
     t = result.tightening
     if sp.feasible and t is not None and len(t) and t["controllable"].any():
         name = t[t["controllable"]].index[0]
+        buys = []   # what halving it does to each requirement on U not met (2u before -> after)
+        for c in result.requirement_checks or []:
+            col = f"U_k2_halved_{c.output}"
+            if not c.met and c.kind == "expanded_uncertainty" and col in t.columns:
+                after = float(t.loc[name, col])
+                before = after - float(t.loc[name, f"delta_U_k2_{c.output}"])
+                shown = [achieved(replace(c, value=v), st).removeprefix("U = ")
+                         for v in (before, after)]
+                buys.append(f"2u of {lit(c.output)} {shown[0]} → {shown[1]} (requirement "
+                            f"{requirement_label(c.key)} not met)")
         lines.append(f"Tighten first: **{lit(name)}** (halving its tolerance cuts 2u by "
                      f"{two_digits(float(t.loc[name, 'gain_bands']))} of a band half-width or "
-                     "requirement limit).")
+                     "requirement limit" + (": " + "; ".join(buys) if buys else "") + ").")
     a = result.allocation
     if a is not None:
         lines.append(f"No allocation meets the requirements: {lit(a.message)}." if a.message

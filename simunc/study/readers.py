@@ -496,7 +496,7 @@ def _parse_study(data: dict, path: str, sha256: str) -> Study:
         raise StudyError("run.sobol_base_samples", n_sobol, "a power of two such as 1024 or 4096")
     fixed = rt.has("trials") and rt.data["trials"] != "adaptive"
     run = RunSettings(
-        trials=rt.integer("trials", 0, 100) if fixed else None,
+        trials=rt.integer("trials", 0, 100, other='"adaptive"') if fixed else None,
         sampling=rt.choice("sampling", SAMPLING, default="random"),
         significant_digits=rt.integer("significant_digits", 2, 1),
         max_trials=rt.integer("max_trials", 10_000_000, 10_000),

@@ -80,10 +80,12 @@ class Table:
             raise StudyError(self.key(name), raw, what)
         return value
 
-    def integer(self, name: str, default: int, low: int) -> int:
+    def integer(self, name: str, default: int, low: int, other: str = "") -> int:
+        """A whole number >= ``low``; ``other`` names another accepted value for the message."""
         raw = self.data.get(name, default)
         if isinstance(raw, bool) or not isinstance(raw, int) or raw < low:
-            raise StudyError(self.key(name), raw, f"a whole number >= {low}")
+            raise StudyError(self.key(name), raw, f"a whole number >= {low}"
+                             + (f" or {other}" if other else ""))
         return raw
 
     def text(self, name: str, default: str | None = None) -> str:

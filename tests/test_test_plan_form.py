@@ -88,8 +88,14 @@ def test_rtd_class_in_a_study_resolves_at_the_set_point_and_states_its_class():
     assert inp.half_width == pytest.approx(a)
     assert inp.standard_uncertainty == pytest.approx(a / math.sqrt(3.0))
     assert statement(inp.spec) == "IEC 60751 class B: ±(0.3 + 0.005·|t|) °C"
-    # halved, every term halves: the test plan's "1/2 class B"
-    assert statement(inp.spec, 0.5) == "±(0.15 + 0.0025·|t|) °C"
+    # halved, every term halves: the test plan's "1/2 class B"; IEC 60751:2008 class A,
+    # ±(0.15 + 0.002·|t|) °C from -100 °C to 450 °C (wire-wound), lies within it at every t
+    assert statement(inp.spec, 0.5) == ("±(0.15 + 0.0025·|t|) °C (class A or better, valid "
+                                        "-100 °C to 450 °C)")
+    # at 0.3 of class B no class is tight enough: class AA is ±(0.1 + 0.0017·|t|) °C
+    assert statement(inp.spec, 0.3) == "±(0.090 + 0.0015·|t|) °C (tighter than class AA)"
+    # loosened by half, class B (±(0.3 + 0.005·|t|) °C, -196 °C to 600 °C) is the loosest within
+    assert statement(inp.spec, 1.5).endswith("(class B or better, valid -196 °C to 600 °C)")
 
 
 @pytest.mark.parametrize("given, expected", [

@@ -61,7 +61,7 @@ from simunc.similitude.model import SimilitudeModel
 from simunc.similitude.setpoint import SetPoint
 from simunc.study.catalogue import TARGETS
 from simunc.study.schema import Component, InputSpec
-from simunc.study.uncertain import RTD_RANGES
+from simunc.study.written import RTD_RANGES
 from simunc.uncertainty.distributions import (
     BOUNDED,
     bounded,

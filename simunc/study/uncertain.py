@@ -38,6 +38,7 @@ from simunc.study.schema import (
     Written,
 )
 from simunc.study.table import Table, check_finite
+from simunc.study.written import RTD_CLASSES
 from simunc.uncertainty.correlation import Correlation
 from simunc.uncertainty.distributions import coverage_factor, make_distribution
 from simunc.units import DIMENSIONS, Parsed, parse, to_si, written_unit
@@ -139,13 +140,6 @@ def _coverage_factor(t: Table, dist: str, beta: float | None) -> tuple[float, fl
         k = float(coverage_factor(p, nu))
     return k, nu, p
 
-
-#: IEC 60751:2008 tolerance classes of platinum resistance thermometers: class -> (a [K], b),
-#: limits +-(a + b |t|) with t in degrees Celsius.
-RTD_CLASSES = {"AA": (0.1, 0.0017), "A": (0.15, 0.002), "B": (0.3, 0.005), "C": (0.6, 0.01)}
-#: The temperatures [degC] over which each class holds (wire-wound resistors, IEC 60751:2008).
-RTD_RANGES = {"AA": (-50.0, 250.0), "A": (-100.0, 450.0), "B": (-196.0, 600.0),
-              "C": (-196.0, 600.0)}
 
 
 def _accuracy(t: Table, targets: tuple) -> dict[str, Any]:

@@ -21,6 +21,13 @@ from simunc.study.catalogue import TARGETS
 from simunc.study.schema import InputSpec
 from simunc.units import RELATIVE_FACTORS, from_si, unit_text
 
+#: IEC 60751:2008 tolerance classes of platinum resistance thermometers: class -> (a [K], b),
+#: limits +-(a + b |t|) with t in degrees Celsius.
+RTD_CLASSES = {"AA": (0.1, 0.0017), "A": (0.15, 0.002), "B": (0.3, 0.005), "C": (0.6, 0.01)}
+#: The temperatures [degC] over which each class holds (wire-wound resistors, IEC 60751:2008).
+RTD_RANGES = {"AA": (-50.0, 250.0), "A": (-100.0, 450.0), "B": (-196.0, 600.0),
+              "C": (-196.0, 600.0)}
+
 def round_down(value: float, digits: int = 2) -> str:
     """``value`` rounded down (towards zero) to ``digits`` significant digits, as text.
 
@@ -136,9 +143,27 @@ def _accuracy(spec: InputSpec, scale: float, exact: bool) -> str:
     if celsius and not parts:  # a resistance thermometer's class: +-(a + b |t|) degC
         a = _number(from_si(w.absolute * scale, "temperature_difference", "K"), exact)
         text = f"±({a + ' + ' if w.absolute else ''}{_number(celsius, exact)}·|t|) °C"
-        return f"IEC 60751 class {w.rtd_class}: {text}" if w.rtd_class and exact else text
+        if w.rtd_class and exact:
+            return f"IEC 60751 class {w.rtd_class}: {text}"
+        return text + (_rtd_meeting(from_si(w.absolute * scale, "temperature_difference", "K"),
+                                    celsius) if w.rtd_class else "")
     if w.absolute:
         parts.append(_quantity(w.absolute * scale, dim, w.absolute_unit or "K", exact))
     if celsius:
         parts.append(f"{_number(celsius, exact)}·|t| °C (t in °C)")
     return "±(" + " + ".join(parts) + ")" if len(parts) > 1 else "±" + parts[0]
+
+
+def _rtd_meeting(a: float, b: float) -> str:
+    """The loosest IEC 60751 class within the limits ±(a + b·|t|) °C at every t, with the
+    temperatures it holds over; or that no class is that tight.
+
+    >>> _rtd_meeting(0.18, 0.003), _rtd_meeting(0.063, 0.00105)
+    (' (class A or better, valid -100 °C to 450 °C)', ' (tighter than class AA)')
+    """
+    for name in ("C", "B", "A", "AA"):
+        ca, cb = RTD_CLASSES[name]
+        if ca <= a * (1 + 1e-9) and cb <= b * (1 + 1e-9):
+            lo, hi = RTD_RANGES[name]
+            return f" (class {name} or better, valid {lo:g} °C to {hi:g} °C)"
+    return " (tighter than class AA)"

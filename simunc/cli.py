@@ -225,7 +225,9 @@ def _run_locked(args, study) -> int:
 
         for line in matrix_lines(result):
             print(unmarked(line))
-    if result.tightening is not None and result.tightening["controllable"].any():
+    # as in the report's verdict: tighter tolerances cannot make up an unreachable set point
+    if result.setpoint.feasible and result.tightening is not None \
+            and result.tightening["controllable"].any():
         t = result.tightening
         print(f"control more tightly first: {plain(t[t['controllable']].index[0])}")
     if result.requirement_checks is not None:

@@ -45,7 +45,17 @@ def table(df: pd.DataFrame) -> pd.DataFrame:
     return df.map(fmt)
 
 
-def _near(value: float, limit: float) -> str:
+def rounded(df: pd.DataFrame, digits: int = 4) -> pd.DataFrame:
+    """A table's numbers to ``digits`` significant digits (a value whose uncertainty the table
+    does not give); yes/no, whole numbers and text as :func:`fmt`."""
+    def cell(v):
+        if isinstance(v, (float, np.floating)) and np.isfinite(v) and abs(v) >= 1e-13:
+            return number(float(v), digits)
+        return fmt(v)
+    return df.map(cell)
+
+
+def near(value: float, limit: float) -> str:
     """``value`` to two significant digits, or three when two would read as the limit."""
     text = two_digits(value)
     return text if value == limit or text != two_digits(limit) else f"{float(value):#.3g}"
@@ -64,16 +74,16 @@ def achieved(c, study) -> str:
     r = next((r for r in study.requirements + study.plan_requirements if r.key == c.key), None)
     if r is not None and r.relative and c.limit > 0:
         scale = 100 * r.limit / c.limit
-        return f"U = {_near(c.value * scale, c.limit * scale)} %"
+        return f"U = {near(c.value * scale, c.limit * scale)} %"
     if c.output in ("drag_coefficient", EXTRAPOLATED_OUTPUT):
-        return f"U = {_near(c.value / 1e-4, c.limit / 1e-4)} counts"
+        return f"U = {near(c.value / 1e-4, c.limit / 1e-4)} counts"
     if r is not None and r.unit and r.output:
         dim = output_dimension(r.output)
         if dim != "dimensionless":
-            return (f"U = {_near(from_si(c.value, dim, r.unit), from_si(c.limit, dim, r.unit))} "
+            return (f"U = {near(from_si(c.value, dim, r.unit), from_si(c.limit, dim, r.unit))} "
                     f"{unit_text(r.unit)}")
     unit = describe_output(c.output)[0] if c.output else ""
-    return f"U = {_near(c.value, c.limit)}" + (f" {unit}" if unit and unit != "1" else "")
+    return f"U = {near(c.value, c.limit)}" + (f" {unit}" if unit and unit != "1" else "")
 
 
 def requirement_label(key: str) -> str:

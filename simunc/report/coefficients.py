@@ -7,7 +7,7 @@ import math
 import pandas as pd
 
 from simunc.decisions.coefficients import LOAD_CAUTION
-from simunc.report.blocks import Block, fmt, requirement_label, table
+from simunc.report.blocks import Block, fmt, near, requirement_label, rounded
 from simunc.report.text import lit, two_digits, with_uncertainty
 from simunc.units import COUNT, in_display_units, load_text, number
 
@@ -27,8 +27,10 @@ def summary_lines(result) -> list[str]:
         if str(out).startswith("pressure_coefficient_") or r["nominal"] == 0.0:
             continue
         # two significant digits for an uncertainty (JCGM 100 7.2.6)
-        value = (f"{two_digits(r['U_counts'])} counts" if out == "drag_coefficient"
-                 else two_digits(r["U"]))
+        # three where two would read as the limit
+        lim = r["limit"] if r["limit"] == r["limit"] else math.nan
+        value = (f"{near(r['U_counts'], lim / COUNT)} counts" if out == "drag_coefficient"
+                 else near(r["U"], lim))
         lines.append(f"{lit(out)}: U ({p}) = {value}; driven most by {lit(r['leading_inputs'])}."
                      if r["leading_inputs"] else f"{lit(out)}: U ({p}) = {value}.")
     return lines
@@ -79,7 +81,7 @@ def _runs_for_blocks(e) -> list[Block]:
     b = [Block("paragraph", f"Sweeps simulated for the requirement {lit(r.requirement)} (the "
                "same draws for every sweep; fewest runs first): " + _runs_for_text(r))]
     if len(r.designs):
-        b.append(Block("table", table(r.designs)))
+        b.append(Block("table", rounded(r.designs)))
     return b
 
 
@@ -103,14 +105,15 @@ def coefficient_blocks(result) -> list[Block]:
     est = result.lpu.estimates if result.lpu is not None else None
     u_lpu = [float(est.loc[o, "standard_uncertainty"]) if est is not None and o in est.index
              else float("nan") for o in t["output"]]
-    def counts(v: float, is_drag: bool) -> str:
-        return "—" if v != v else f"{two_digits(v / COUNT)} counts" if is_drag else two_digits(v)
+    def counts(v: float, is_drag: bool, limit: float) -> str:   # three digits near the limit
+        return ("—" if v != v else f"{near(v / COUNT, limit / COUNT)} counts" if is_drag
+                else near(v, limit))
 
     b.append(Block("table", pd.DataFrame({
         "output": t["output"], "nominal": [fmt(v) for v in t["nominal"]],
         "bias": [two_digits(v) for v in t["bias"]], "u": [two_digits(v) for v in t["u"]],
         "u (LPU)": [two_digits(v) for v in u_lpu],
-        f"U ({p})": [counts(v, d) for v, d in zip(t["U"], drag)],
+        f"U ({p})": [counts(v, d, lim) for v, d, lim in zip(t["U"], drag, t["limit"])],
         "requirement (U)": ["—" if v != v else f"{fmt(v / COUNT)} counts" if d else fmt(v)
                             for v, d in zip(t["limit"], drag)],
         "leading inputs (Sobol ST)": t["leading_inputs"]})))
@@ -152,7 +155,7 @@ def coefficient_blocks(result) -> list[Block]:
                        "of each trial. Tunnel value less full-scale value (the bias of taking the "
                        "one for the other, with its uncertainty: data reduction, the scatter of "
                        "the achieved Reynolds number and the model form):"))
-        b.append(Block("table", table(c.scale)))
+        b.append(Block("table", rounded(c.scale)))
     e = result.extrapolation
     if e is not None:
         pe = f"{100 * e.probability:g} %"
@@ -164,7 +167,7 @@ def coefficient_blocks(result) -> list[Block]:
                        f"{e.ratio:.3g}): C_D = {e.estimate:.5f}, U ({pe}) = {two_digits(e.U)} "
                        f"({two_digits(e.U_counts)} counts) about the true full-scale value, bias "
                        f"{two_digits(e.bias)}."))
-        b.append(Block("table", table(e.runs)))
+        b.append(Block("table", rounded(e.runs)))
         if e.notes:
             b.append(Block("bullets", [lit(n[0].upper() + n[1:] + ".") for n in e.notes]))
         b.append(Block("figure", "extrapolation.png", caption=(

@@ -25,6 +25,7 @@ from simunc.report.blocks import table as _table
 from simunc.report.figures import histogram_files
 from simunc.report.text import lit, two_digits, unmarked, with_uncertainty
 from simunc.study.catalogue import describe_output
+from simunc.similitude.setpoint import MATCHED
 from simunc.study.written import statement
 from simunc.units import in_display_units
 
@@ -278,7 +279,8 @@ def build(result) -> list[Block]:
         b.append(Block("paragraph", "Mismatch of each solved group, in tolerance bands "
                        "(ln ratio / tolerance; difference / tolerance for the Mach number):"))
         b.append(Block("table", _table(pd.DataFrame(
-            [(g, v) for g, v in sp.mismatch.items()], columns=["group", "mismatch (bands)"]))))
+            [(g, 0.0 if abs(v) < MATCHED else v) for g, v in sp.mismatch.items()],
+            columns=["group", "mismatch (bands)"]))))
     if sp.alternatives:
         b.append(Block("paragraph", "Candidate working fluids:"))
         b.append(Block("table", _table(pd.DataFrame(
@@ -385,6 +387,8 @@ def build(result) -> list[Block]:
     stat_rows = []
     for k, r in s.iterrows():
         u_k = float(r["standard_uncertainty"])
+        if u_k <= 1e-12 * abs(float(r["mean"])):   # round-off of a constant output, not a spread
+            u_k = 0.0
         # every value to the digit of its u, u to two digits (JCGM 100 7.2.6)
         shown = [with_uncertainty(float(r[c]), u_k)[0] for c in values]
         k_factor = float(r["coverage_factor"])
@@ -473,7 +477,8 @@ def build(result) -> list[Block]:
         b += decisions.ranking_detail_blocks(result)
 
     b.append(Block("heading", "Safety"))
-    b.append(Block("bullets", [SAFETY[0], SAFETY[1].format(q=f"{o['dynamic_pressure'] / 1e3:.1f}"),
+    q_kpa = number(o["dynamic_pressure"] / 1e3, 3)
+    b.append(Block("bullets", [SAFETY[0], SAFETY[1].format(q=q_kpa),
                                SAFETY[2], SAFETY[3]]))
 
     b.append(Block("heading", "Reproducibility"))

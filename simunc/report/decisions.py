@@ -6,8 +6,9 @@ import pandas as pd
 
 from simunc.decisions.requirements import LOOSEN
 from simunc.report.blocks import Block, achieved, cost_text, fmt, requirement_label, table
-from simunc.report.text import lit, two_digits
+from simunc.report.text import lit, two_digits, with_uncertainty
 from simunc.study.written import statement
+from simunc.units import number
 
 
 def sensitivity_blocks(result) -> list[Block]:
@@ -16,9 +17,10 @@ def sensitivity_blocks(result) -> list[Block]:
     sr = result.sobol_result
     b.append(Block("paragraph", f"First-order S1 and total ST Sobol indices ({st.run.sobol_base_samples} "
                    "base samples, Saltelli design on a scrambled Sobol sequence, 95 % bootstrap "
-                   "half-widths in the *_conf columns), beside the GUM budget of the same output: "
-                   "sensitivity coefficient c, standard uncertainty u(x) and the share of the "
-                   "combined variance c² u² / u_c² (JCGM 100, 5.1)."))
+                   "half-widths in the *_conf columns; each index to the digit of its half-width), "
+                   "beside the GUM budget of the same output: sensitivity coefficient c, standard "
+                   "uncertainty u(x) (both in SI units) and the share of the combined variance "
+                   "c² u² / u_c² (JCGM 100, 5.1)."))
     if st.correlation is not None:
         b.append(Block("paragraph", "**The study correlates inputs.** Sobol indices assume "
                        "independent inputs; the Shapley effects below account for the dependence "
@@ -36,10 +38,10 @@ def sensitivity_blocks(result) -> list[Block]:
         else:
             corr = pd.DataFrame()
         b.append(Block("paragraph", f"**{lit(out)}**"))
-        b.append(Block("table", table(t.reset_index())))
+        b.append(Block("table", _indices(t.reset_index())))
         if len(corr):
             b.append(Block("paragraph", "Correlation terms of the budget: " + "; ".join(
-                f"{lit(k)}: {fmt(v)} %" for k, v in corr["share_percent"].items()) + "."))
+                f"{lit(k)}: {two_digits(v)} %" for k, v in corr["share_percent"].items()) + "."))
     b.append(Block("figure", "sobol_indices.png", caption="Sobol indices of the matched groups"
                    + (" and of the measured coefficients a requirement limits."
                       if any(st.limit_of_output(o) is not None for o in st.coefficient_outputs)
@@ -56,14 +58,14 @@ def sensitivity_blocks(result) -> list[Block]:
                 b.append(Block("paragraph", f"**{lit(out)}**: no interaction resolved."))
                 continue
             b.append(Block("paragraph", f"**{lit(out)}** (largest ten)"))
-            b.append(Block("table", table(t)))
+            b.append(Block("table", _indices(t)))
     if sr is not None and sr.groups is not None:
         b.append(Block("paragraph", "Grouped indices (closed first-order and total index of each "
                        "group): " + "; ".join(f"{lit(g)} = {lit(', '.join(m))}" for g, m in
                                                sr.group_members.items() if len(m) > 1) + "."))
         for out, t in sr.groups.items():
             b.append(Block("paragraph", f"**{lit(out)}**"))
-            b.append(Block("table", table(t.reset_index())))
+            b.append(Block("table", _indices(t.reset_index())))
     if result.shapley is not None:
         b.append(Block("paragraph", "Shapley effects under the Gaussian copula of the study "
                        "(Song, Nelson & Staum 2016): each input's share of Var(y), dependence "
@@ -72,8 +74,31 @@ def sensitivity_blocks(result) -> list[Block]:
                        "E[Var(y | x_~i)] / Var(y)."))
         for out, t in result.shapley.items():
             b.append(Block("paragraph", f"**{lit(out)}**"))
-            b.append(Block("table", table(t.reset_index())))
+            b.append(Block("table", _indices(t.reset_index())))
     return b
+
+
+def _indices(t: pd.DataFrame) -> pd.DataFrame:
+    """A table of sensitivity indices as read: an index with a ``*_conf`` column to the digit of
+    its 95 % half-width (the half-width to two digits, JCGM 100 7.2.6), the GUM budget's c to
+    three digits, u(x) to two and the budget share in %; other numbers to three digits."""
+    out = pd.DataFrame(index=t.index)
+    for col in t.columns:
+        v = t[col]
+        if not pd.api.types.is_numeric_dtype(v) or pd.api.types.is_bool_dtype(v):
+            out[col] = [fmt(x) for x in v]
+        elif col.endswith("_conf"):
+            out[col] = [two_digits(x) if x > 0 else fmt(x) for x in v]
+        elif f"{col}_conf" in t.columns:
+            out[col] = [with_uncertainty(float(x), float(h))[0] if h > 0 else fmt(float(x))
+                        for x, h in zip(v, t[f"{col}_conf"])]
+        elif col == "u(x)":
+            out[col] = [two_digits(x) for x in v]
+        elif col == "budget share %":
+            out[col] = [_pct(x) for x in v]
+        else:
+            out[col] = [fmt(float(x)) if abs(x) < 1e-13 else number(float(x), 3) for x in v]
+    return out
 
 
 def _pct(v) -> str:
@@ -163,21 +188,38 @@ def ranking_detail_blocks(result) -> list[Block]:
             cols += [f"variance_removed_percent_{out}", f"delta_U_k2_{out}"]
         cols += ["delta_conformity", "gain_bands"]
         b.append(Block("paragraph", "Halving each tolerance alone: variance removed if the input "
-                       "were known exactly (%), the change of 2u (delta_U_k2) with its tolerance halved, "
-                       "the change of the probability that every group is in its band, and gain "
-                       "= the largest drop of 2u over a tolerance half-width or limit."))
-        b.append(Block("table", table(t[cols].reset_index())))
+                       "were known exactly (%), the change of 2u with its tolerance halved (in the "
+                       "output's SI unit), the change of the probability that every group is in "
+                       "its band (delta conformity), and gain bands = the largest drop of 2u over "
+                       "a tolerance half-width or limit."))
+        b.append(Block("table", _headed(_indices(t[cols].reset_index()))))
     basis = ("the Shapley effect (the inputs are correlated)" if st.correlation
              is not None else "the Sobol total index ST")
     b.append(Block("paragraph", "band share = 2 sqrt(s var(y)) / tolerance: twice the standard "
                    "uncertainty an input brings to a matched group, as a fraction of that group's "
                    f"tolerance half-width, with s its share of var(y) from {basis} "
-                   "(column variance_share)"
+                   "(column variance share)"
                    + ("; limit share, alike, of a measured coefficient against its requirement "
-                      "limit; largest_band_share is the largest of both."
+                      "limit; largest band share is the largest of both."
                       if st.coefficient_outputs else ".")))
-    b.append(Block("table", table(result.ranking.reset_index())))
+    b.append(Block("table", _headed(_indices(result.ranking.reset_index()))))
     return b
+
+
+#: Column-name heads of the ranking tables and how a header reads them.
+_HEADS = (("variance_removed_percent_", "variance removed % "), ("delta_U_k2_", "change of 2u "),
+          ("variance_share_", "variance share "), ("band_share_", "band share "),
+          ("limit_share_", "limit share "), ("ST_", "ST "))
+
+
+def _headed(t: pd.DataFrame) -> pd.DataFrame:
+    """Human headers: ``delta_U_k2_reynolds_ratio`` -> ``change of 2u (reynolds_ratio)``."""
+    def head(col: str) -> str:
+        for code, words in _HEADS:
+            if col.startswith(code):
+                return f"{words}({col[len(code):]})"
+        return col.replace("_", " ")
+    return t.rename(columns=head)
 
 
 def _checks(checks, study) -> pd.DataFrame:

@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 
 from simunc.decisions.requirements import Check
-from simunc.report.blocks import Block, achieved, allocation_changes, cost_text, table
+from simunc.report.blocks import Block, achieved, allocation_changes, cost_text, rounded
 from simunc.report.text import lit, two_digits
 
 
@@ -82,18 +82,20 @@ def matrix_blocks(result) -> list[Block]:
                        "increments in counts, slopes per degree of angle of attack); u and u "
                        "(LPU) in SI:"))
         dt = mx.derived_table
-        b.append(Block("table", table(dt[["quantity", "at", "unit_shown", "nominal_shown",
-                                          "U_shown", "limit_shown", "met", "u", "u_lpu",
-                                          "leading_inputs"]].rename(columns={
+        view = rounded(dt[["quantity", "at", "unit_shown", "nominal_shown", "U_shown",
+                           "limit_shown", "met", "u", "u_lpu", "leading_inputs"]])
+        for col in ("U_shown", "u", "u_lpu"):   # uncertainties to two digits (JCGM 100 7.2.6)
+            view[col] = [two_digits(v) for v in dt[col]]
+        b.append(Block("table", view.rename(columns={
             "unit_shown": "unit", "nominal_shown": "nominal", "U_shown": f"U ({p})",
-            "limit_shown": "limit of U", "u_lpu": "u (LPU)"}))))
+            "limit_shown": "limit of U", "u_lpu": "u (LPU)"})))
     wd = result.matrix_decision
     if wd is not None:
         b.append(Block("paragraph", f"Requirements at the hardest point, {wd.point + 1} "
                        f"({lit(wd.label)}), solved as for the study's own point: the largest "
                        "tolerance of each input alone (the others as written) there:"))
         if wd.limits is not None:
-            b.append(Block("table", table(wd.limits.reset_index())))
+            b.append(Block("table", rounded(wd.limits.reset_index())))
         a = wd.allocation
         if a is not None and a.message:
             b.append(Block("paragraph", f"No allocation meets them there: {lit(a.message)}."))
@@ -103,13 +105,13 @@ def matrix_blocks(result) -> list[Block]:
                            "the matrix run again with the allocated tolerances (the same draws) "
                            "gives at each point:"))
             if a.table is not None:
-                b.append(Block("table", table(a.table)))
+                b.append(Block("table", rounded(a.table)))
             if wd.checks is not None:
-                b.append(Block("table", table(wd.checks)))
+                b.append(Block("table", rounded(wd.checks)))
     if len(mx.leaders):
         b.append(Block("paragraph", "Inputs that lead the most points (largest term of the "
                        "linear budget of each output at each point):"))
-        b.append(Block("table", table(mx.leaders)))
+        b.append(Block("table", rounded(mx.leaders)))
     b.append(Block("figure", "matrix_uncertainty.png", caption=(
         f"U ({p}) of the drag (counts) and lift coefficients at every point of the matrix, one "
         "line per run, with the requirements.")))
@@ -119,7 +121,8 @@ def matrix_blocks(result) -> list[Block]:
                        f". With {lit(', '.join(held))} held at the base set point, a point "
                        "away from the base condition cannot match every group: 'feasible: no' "
                        "and a low P(in band) are expected there." if held else ":")))
-    b.append(Block("table", table(mx.table)))
+    b.append(Block("table", rounded(mx.table.loc[:, [c for c in mx.table.columns if c != "error"
+                                                      or mx.table[c].astype(bool).any()]])))
     return b
 
 

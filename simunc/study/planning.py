@@ -18,7 +18,7 @@ from dataclasses import replace
 from typing import Any, cast
 
 from simunc.errors import GIVEN_LIMIT, StudyError, plain
-from simunc.study.catalogue import EXTRAPOLATED_OUTPUT, TARGETS
+from simunc.study.catalogue import EXTRAPOLATED_OUTPUT
 from simunc.study.keys import (
     COST_KEYS,
     DESIGN_KEYS,

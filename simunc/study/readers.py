@@ -364,7 +364,7 @@ def _unknowns(study_fac: Facility, solve_for, bands, model_size: str | None,
                            "neither matched nor solved")
             if u == "model_length":
                 model.require("scale", "or model.reference_length (or solve for model_scale)")
-            ft.require(key.split(".", 1)[1], f"needed unless match.solve_for includes it")
+            ft.require(key.split(".", 1)[1], "needed unless match.solve_for includes it")
     n_solving = len([b for b in bands if b.solve])
     n_continuous = len([u for u in unknowns if u != "fluid"])
     if n_continuous > n_solving:

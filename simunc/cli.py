@@ -93,7 +93,7 @@ def _check(args) -> int:
     from simunc.similitude.prepared import prepare
     from simunc.study.readers import load_study
     from simunc.study.slips import likely_slips
-    from simunc.units import in_display_units
+    from simunc.units import quantity_text
 
     study = load_study(args.study)
     sp = prepare(study).setpoint  # the set point, and every input's extremes physical
@@ -103,8 +103,7 @@ def _check(args) -> int:
     solved = ", ".join(sp.solve_for) or "nothing"
     def shown(value: float, si: str) -> str:
         """A set-point value in the unit the study writes its dimension in."""
-        v, unit = in_display_units(value, si, dict(study.display_units))
-        return f"{v:.6g} {unit}"
+        return quantity_text(value, si, study.display_units)
 
     if study.kind == "gas":
         state = (f"p0 = {shown(o['stagnation_pressure'], 'Pa')}, "

@@ -365,6 +365,21 @@ def number(v: float, digits: int = 6) -> str:
     return f"{mantissa} × 10{str(int(exponent)).translate(SUPERSCRIPT)}"
 
 
+def quantity_text(value: float, si_unit: str, shown=None, digits: int = 6) -> str:
+    """An SI value with its unit, in the unit ``shown`` (a study's display units) holds for its
+    dimension, to ``digits`` significant digits (:func:`number`); no unit for a pure number.
+
+    >>> quantity_text(731449.0, "Pa", {"pressure": "bar"}), quantity_text(0.95, "1")
+    ('7.31449 bar', '0.95')
+    >>> quantity_text(291.15, "K", {"temperature": "degC"}, 4), quantity_text(900000.0, "Pa")
+    ('18 °C', '900000 Pa')
+    """
+    if shown:
+        value, si_unit = in_display_units(value, si_unit, dict(shown))
+    text = number(value, digits)
+    return f"{text} {si_unit}" if si_unit and si_unit != "1" else text
+
+
 def load_text(value: float, moment: bool = False) -> str:
     """A balance load (a force [N] or a moment [N m]) in N or kN, four significant digits.
 

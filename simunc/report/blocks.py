@@ -58,7 +58,7 @@ def rounded(df: pd.DataFrame, digits: int = 4) -> pd.DataFrame:
 def near(value: float, limit: float) -> str:
     """``value`` to two significant digits, or three when two would read as the limit."""
     text = two_digits(value)
-    return text if value == limit or text != two_digits(limit) else f"{float(value):#.3g}"
+    return text if value == limit or text != two_digits(limit) else two_digits(value, 3)
 
 
 def achieved(c, study) -> str:

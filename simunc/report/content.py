@@ -27,7 +27,7 @@ from simunc.report.text import lit, two_digits, unmarked, with_uncertainty
 from simunc.study.catalogue import describe_output
 from simunc.similitude.setpoint import MATCHED
 from simunc.study.written import statement
-from simunc.units import in_display_units
+from simunc.units import quantity_text
 
 SAFETY = [
     "Pressurised facilities store a great deal of energy in the gas: run only inside the "
@@ -61,8 +61,7 @@ def _small(v: float) -> float:
 def _state_line(st, o) -> str:
     """The set point in one sentence, in the units the study writes (bar, °C, mm)."""
     def q(key: str, si: str, digits: int = 5) -> str:
-        value, unit = in_display_units(float(o[key]), si, dict(st.display_units))
-        return f"{number(value, digits)} {unit}"
+        return quantity_text(float(o[key]), si, st.display_units, digits)
 
     scale = st.full_scale.reference_length / o["model_length"]
     model = f"model reference length {q('model_length', 'm')} (scale 1:{scale:.4g})"

@@ -76,8 +76,9 @@ def md(text: object) -> str:
                    for literal, p in spans(text))
 
 
-def two_digits(x: float) -> str:
-    """An uncertainty to two significant digits, a trailing zero kept (JCGM 100:2008 7.2.6).
+def two_digits(x: float, digits: int = 2) -> str:
+    """An uncertainty to two (or ``digits``) significant digits, a trailing zero kept
+    (JCGM 100:2008 7.2.6).
 
     Written out in positional notation, never in e-notation.
 
@@ -85,18 +86,19 @@ def two_digits(x: float) -> str:
     ('3.0', '4.4', '12', '0.00044')
     >>> two_digits(9.82e-05), two_digits(74218.5), two_digits(0.0006), two_digits(9.96)
     ('0.000098', '74000', '0.00060', '10')
-    >>> two_digits(-3.88e-06)
-    '-3.9 × 10⁻⁶'
+    >>> two_digits(-3.88e-06), two_digits(2.997, 3), two_digits(9.804e-05, 3)
+    ('-3.9 × 10⁻⁶', '3.00', '0.0000980')
     """
     import math
 
-    r = float(f"{float(x):.2g}")  # rounded first: 9.96 -> 10, two digits and no decimal
+    r = float(f"{float(x):.{digits}g}")  # rounded first: 9.96 -> 10, two digits and no decimal
     if not math.isfinite(r) or r == 0.0:
         return f"{r:g}"
     exponent = math.floor(math.log10(abs(r)))
     if exponent < -5:   # 3.9 × 10⁻⁶ rather than a row of zeros
-        return f"{r / 10.0 ** exponent:.1f} × 10{str(exponent).translate(SUPERSCRIPT)}"
-    return f"{r:.{max(1 - exponent, 0)}f}"
+        return (f"{r / 10.0 ** exponent:.{digits - 1}f} × "
+                f"10{str(exponent).translate(SUPERSCRIPT)}")
+    return f"{r:.{max(digits - 1 - exponent, 0)}f}"
 
 
 def with_uncertainty(value: float, u: float) -> tuple[str, str]:

@@ -37,7 +37,7 @@ from simunc.constants import STANDARD_PRESSURE
 from simunc.physics.fluids import AIR, AIR_REAL, CoolPropGas
 from simunc.similitude.model import SimilitudeModel
 from simunc.study.schema import Band, Study
-from simunc.units import in_display_units
+from simunc.units import quantity_text as _q
 
 #: A residual below this (in tolerance bands) counts as matched.
 MATCHED = 1.0e-6
@@ -136,18 +136,6 @@ def build_model(study: Study, fluid=None) -> SimilitudeModel:
                            mach_from=study.facility.mach_from,
                            full_scale_given=study.full_scale.given,
                            custom_groups=study.custom_groups, measurement=study.measurement)
-
-
-def _q(value: float, unit: str, shown: Mapping[str, str] | None = None) -> str:
-    """A value with its unit for messages (no unit for dimensionless values), in the unit the
-    study writes for its dimension (``shown``, a study's display units) when it has one.
-
-    >>> _q(731449.0, "Pa", {"pressure": "bar"}), _q(0.95, "1")
-    ('7.31449 bar', '0.95')
-    """
-    if shown:
-        value, unit = in_display_units(value, unit, dict(shown))
-    return f"{value:.6g} {unit}" if unit and unit != "1" else f"{value:.6g}"
 
 
 def _scalar(out: dict) -> dict:
